@@ -1,0 +1,128 @@
+# SPDX-License-Identifier: GPL-3.0-or-later
+# weft: one Makefile, no autotools.  Output goes to build/.
+#
+#   make            build weftd (build/weftd)
+#   make check      unit tests, integration tests, reference checks
+#   make check-unit unit tests only
+#   make demo       build, start weftd on demo.db with the demo network
+#   make clean
+
+CC       ?= cc
+PYTHON   ?= /usr/bin/python3
+BUILD    ?= build
+PREFIX   ?= /usr/local
+SANITIZER ?=
+
+PKGS     := libmicrohttpd jansson sqlite3
+WARN     := -Wall -Wextra -Wpedantic -Wshadow -Wstrict-prototypes \
+            -Wmissing-prototypes -Wformat=2 -Wno-format-nonliteral
+CFLAGS   ?= -O2 -g
+CFLAGS   += -std=c11 -D_GNU_SOURCE $(WARN) -MMD -MP -pthread
+ifneq ($(WERROR),)
+CFLAGS   += -Werror
+endif
+ifneq ($(SANITIZER),)
+CFLAGS   += -fsanitize=$(SANITIZER) -fno-omit-frame-pointer
+LDFLAGS  += -fsanitize=$(SANITIZER)
+endif
+PKG_CFLAGS := $(shell pkg-config --cflags $(PKGS) 2>/dev/null)
+PKG_LIBS   := $(shell pkg-config --libs $(PKGS) 2>/dev/null)
+LDLIBS   += $(PKG_LIBS) -lglpk -lm -pthread
+
+BASE_SRC    := $(wildcard daemon/base/*.c)
+ENGINE_SRC  := $(wildcard daemon/engine/*.c)
+STORAGE_SRC := $(wildcard storage/*.c)
+API_SRC     := $(wildcard api/*.c)
+DAEMON_SRC  := $(wildcard daemon/*.c)
+SCHEMA_SQL  := $(sort $(wildcard storage/schema/*.sql))
+
+obj = $(patsubst %.c,$(BUILD)/obj/%.o,$(1))
+
+LIBBASE    := $(BUILD)/libbase.a
+LIBENGINE  := $(BUILD)/libengine.a
+LIBSTORAGE := $(BUILD)/libstorage.a
+LIBAPI     := $(BUILD)/libapi.a
+WEFTD      := $(BUILD)/weftd
+SCHEMA_C   := $(BUILD)/gen/schema_sql.c
+
+all: $(WEFTD)
+
+# A change of flags rebuilds everything.
+$(BUILD)/flags: FORCE
+	@mkdir -p $(BUILD)
+	@echo '$(CC) $(CFLAGS) $(PKG_CFLAGS) $(LDFLAGS)' | cmp -s - $@ || \
+	    echo '$(CC) $(CFLAGS) $(PKG_CFLAGS) $(LDFLAGS)' > $@
+
+$(BUILD)/obj/%.o: %.c $(BUILD)/flags
+	@mkdir -p $(dir $@)
+	$(CC) $(CFLAGS) $(PKG_CFLAGS) -c $< -o $@
+
+# The schema migrations are compiled in: each .sql file becomes one string.
+$(SCHEMA_C): $(SCHEMA_SQL) storage/embed.sh
+	@mkdir -p $(dir $@)
+	sh storage/embed.sh $(SCHEMA_SQL) > $@
+
+$(BUILD)/obj/gen/schema_sql.o: $(SCHEMA_C) $(BUILD)/flags
+	@mkdir -p $(dir $@)
+	$(CC) $(CFLAGS) -c $< -o $@
+
+$(LIBBASE): $(call obj,$(BASE_SRC))
+	$(AR) rcs $@ $^
+$(LIBENGINE): $(call obj,$(ENGINE_SRC))
+	$(AR) rcs $@ $^
+$(LIBSTORAGE): $(call obj,$(STORAGE_SRC)) $(BUILD)/obj/gen/schema_sql.o
+	$(AR) rcs $@ $^
+$(LIBAPI): $(call obj,$(API_SRC))
+	$(AR) rcs $@ $^
+
+$(WEFTD): $(call obj,$(DAEMON_SRC)) $(LIBAPI) $(LIBSTORAGE) $(LIBENGINE) $(LIBBASE)
+	$(CC) $(LDFLAGS) -o $@ $^ $(LDLIBS)
+
+# ---- unit tests: a layer's tests link only that layer and those below ----
+UNIT_BASE    := $(patsubst tests/unit/%.c,$(BUILD)/tests/%,$(wildcard tests/unit/base/*_test.c))
+UNIT_ENGINE  := $(patsubst tests/unit/%.c,$(BUILD)/tests/%,$(wildcard tests/unit/engine/*_test.c))
+UNIT_STORAGE := $(patsubst tests/unit/%.c,$(BUILD)/tests/%,$(wildcard tests/unit/storage/*_test.c))
+UNIT_API     := $(patsubst tests/unit/%.c,$(BUILD)/tests/%,$(wildcard tests/unit/api/*_test.c))
+UNIT_ALL     := $(UNIT_BASE) $(UNIT_ENGINE) $(UNIT_STORAGE) $(UNIT_API)
+
+$(UNIT_BASE): $(BUILD)/tests/%: $(BUILD)/obj/tests/unit/%.o $(LIBBASE)
+	@mkdir -p $(dir $@)
+	$(CC) $(LDFLAGS) -o $@ $^ -lm -pthread
+$(UNIT_ENGINE): $(BUILD)/tests/%: $(BUILD)/obj/tests/unit/%.o $(LIBENGINE) $(LIBBASE)
+	@mkdir -p $(dir $@)
+	$(CC) $(LDFLAGS) -o $@ $^ -lglpk -lm -pthread
+$(UNIT_STORAGE): $(BUILD)/tests/%: $(BUILD)/obj/tests/unit/%.o $(LIBSTORAGE) $(LIBENGINE) $(LIBBASE)
+	@mkdir -p $(dir $@)
+	$(CC) $(LDFLAGS) -o $@ $^ $(shell pkg-config --libs sqlite3) -lglpk -lm -pthread
+$(UNIT_API): $(BUILD)/tests/%: $(BUILD)/obj/tests/unit/%.o $(LIBAPI) $(LIBENGINE) $(LIBBASE)
+	@mkdir -p $(dir $@)
+	$(CC) $(LDFLAGS) -o $@ $^ $(LDLIBS)
+
+check-unit: $(UNIT_ALL)
+	@fail=0; for t in $(UNIT_ALL); do \
+	    echo "== $$t"; $$t || fail=1; \
+	done; exit $$fail
+
+check-integration: $(WEFTD)
+	WEFTD=$(abspath $(WEFTD)) $(PYTHON) tests/integration/run.py
+
+check-reference: $(WEFTD)
+	WEFTD=$(abspath $(WEFTD)) $(PYTHON) tests/reference/run.py
+
+check: check-unit check-integration check-reference
+
+demo: $(WEFTD)
+	sh deploy/demo.sh $(WEFTD)
+
+install: $(WEFTD)
+	install -d $(DESTDIR)$(PREFIX)/bin
+	install -m 755 $(WEFTD) $(DESTDIR)$(PREFIX)/bin/weftd
+
+clean:
+	rm -rf $(BUILD)
+
+FORCE:
+.PHONY: all check check-unit check-integration check-reference demo install clean FORCE
+.SECONDARY:
+
+-include $(shell find $(BUILD)/obj -name '*.d' 2>/dev/null)

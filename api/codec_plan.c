@@ -1,0 +1,255 @@
+/* SPDX-License-Identifier: GPL-3.0-or-later */
+/* Renders a published plan into the JSON texts the plan routes serve. */
+
+/*
+ * DESIGN
+ * Runs on the solver thread when a plan is published, once per plan, so
+ * the readers on HTTP threads only copy bytes.  The plan's arrays run
+ * parallel to the model (routes[k] is demands[k]; arcs[2i] is link i a->b,
+ * arcs[2i+1] is b->a), which this file checks before indexing, so a
+ * mismatched pair gives ERR_INTERNAL instead of a wild read.  A path's
+ * node list is walked from the demand's source along its arcs.
+ */
+
+#include <math.h>
+#include <stdio.h>
+#include <stdlib.h>
+#include <string.h>
+
+#include <jansson.h>
+
+#include "codec_plan.h"
+#include "../daemon/base/err.h"
+#include "../daemon/engine/model.h"
+#include "../daemon/engine/plan.h"
+
+/* A real, or null for a value JSON cannot hold. */
+static json_t *
+num(double x)
+{
+	return isfinite(x) ? json_real(x) : json_null();
+}
+
+/* Dumps and drops j; NULL if j is NULL or dumping fails. */
+static char *
+dump(json_t *j, size_t *lenp)
+{
+	char *s = NULL;
+
+	*lenp = 0;
+	if (j != NULL)
+		s = json_dumps(j, JSON_COMPACT | JSON_REAL_PRECISION(17));
+	json_decref(j);
+	if (s != NULL)
+		*lenp = strlen(s);
+	return s;
+}
+
+/*
+ * Appends v to arr; clears *okp when v is NULL (a string that is not
+ * UTF-8, or no memory), so nothing is dropped silently.
+ */
+static void
+add(json_t *arr, json_t *v, bool *okp)
+{
+	if (v == NULL || json_array_append_new(arr, v) != 0)
+		*okp = false;
+}
+
+/* Checks that p's arrays fit m, so indexing below is safe. */
+static bool
+fits(const struct model *m, const struct plan *p)
+{
+	size_t i, k, a;
+
+	if (p->n_routes != m->n_demands || p->n_arcs != 2 * m->n_links)
+		return false;
+	for (i = 0; i < p->n_saturated; i++)
+		if (p->saturated_links[i] >= m->n_links)
+			return false;
+	if (p->n_stages > PLAN_STAGES_MAX)
+		return false;
+	for (k = 0; k < p->n_routes; k++)
+		for (i = 0; i < p->routes[k].n_paths; i++)
+			for (a = 0; a < p->routes[k].paths[i].n_arcs; a++)
+				if (p->routes[k].paths[i].arcs[a] >= p->n_arcs)
+					return false;
+	return true;
+}
+
+static const char *
+objective_str(enum objective o)
+{
+	return o == OBJ_BALANCE ? "balance" : "cost";
+}
+
+static json_t *
+summary(const struct model *m, const struct plan *p, int64_t revision,
+    bool *okp)
+{
+	json_t *j, *byprio, *sat, *stages;
+	char key[4];
+	size_t i;
+
+	if (p == NULL)
+		return json_pack("{s:I, s:I, s:s, s:s, s:s?}", "revision",
+		    (json_int_t)revision, "model_revision",
+		    (json_int_t)m->revision, "status", "failed", "objective",
+		    objective_str(m->policy.objective), "matrix",
+		    m->policy.matrix);
+	byprio = json_object();
+	for (i = 0; i <= MODEL_PRIO_MAX; i++) {
+		snprintf(key, sizeof(key), "%zu", i);
+		if (json_object_set_new(byprio, key,
+		    num(p->unserved_by_prio_bps[i])) != 0)
+			*okp = false;
+	}
+	sat = json_array();
+	for (i = 0; i < p->n_saturated; i++)
+		add(sat, json_string(m->links[p->saturated_links[i]].id), okp);
+	stages = json_array();
+	for (i = 0; i < p->n_stages; i++)
+		add(stages, json_pack("{s:s, s:o, s:i, s:o}", "name",
+		    p->stages[i].name, "objective",
+		    num(p->stages[i].objective), "iterations",
+		    p->stages[i].iterations, "ms", num(p->stages[i].ms)), okp);
+	j = json_pack("{s:I, s:I, s:s, s:s, s:s?, s:o, s:o, s:o, s:o, s:o, "
+	    "s:o, s:o, s:o, s:o}",
+	    "revision", (json_int_t)revision,
+	    "model_revision", (json_int_t)p->model_revision,
+	    "status", plan_status_str(p->status),
+	    "objective", objective_str(p->objective),
+	    "matrix", m->policy.matrix,
+	    "max_utilization", num(p->max_util),
+	    "total_cost", num(p->total_cost),
+	    "demand_bps", num(p->demand_bps),
+	    "carried_bps", num(p->carried_bps),
+	    "unserved_bps", num(p->unserved_bps),
+	    "unserved_by_priority", byprio,
+	    "solve_ms", num(p->solve_ms),
+	    "saturated_links", sat,
+	    "stages", stages);
+	return j;
+}
+
+/* One path of demand d: rate, node ids from d's source, link ids. */
+static json_t *
+path_json(const struct model *m, const struct demand *d,
+    const struct plan_path *pp, bool *okp)
+{
+	json_t *nodes, *links;
+	const struct link *l;
+	size_t i, at = d->src;
+
+	nodes = json_array();
+	links = json_array();
+	add(nodes, json_string(m->nodes[at].id), okp);
+	for (i = 0; i < pp->n_arcs; i++) {
+		l = &m->links[pp->arcs[i] / 2];
+		at = pp->arcs[i] % 2 == 0 ? l->b : l->a;
+		add(nodes, json_string(m->nodes[at].id), okp);
+		add(links, json_string(l->id), okp);
+	}
+	return json_pack("{s:o, s:o, s:o}", "rate_bps", num(pp->rate_bps),
+	    "nodes", nodes, "links", links);
+}
+
+static json_t *
+routes(const struct model *m, const struct plan *p, int64_t revision,
+    bool *okp)
+{
+	json_t *arr, *paths;
+	const struct demand *d;
+	const struct plan_route *pr;
+	size_t k, i;
+
+	arr = json_array();
+	for (k = 0; p != NULL && k < p->n_routes; k++) {
+		d = &m->demands[k];
+		pr = &p->routes[k];
+		paths = json_array();
+		for (i = 0; i < pr->n_paths; i++)
+			add(paths, path_json(m, d, &pr->paths[i], okp), okp);
+		add(arr, json_pack(
+		    "{s:s, s:s, s:i, s:o, s:o, s:o, s:o}",
+		    "src", m->nodes[d->src].id, "dst", m->nodes[d->dst].id,
+		    "priority", d->priority, "rate_bps", num(d->rate_bps),
+		    "carried_bps", num(pr->carried_bps), "unserved_bps",
+		    num(pr->unserved_bps), "paths", paths), okp);
+	}
+	return json_pack("{s:I, s:I, s:o}", "revision", (json_int_t)revision,
+	    "model_revision", (json_int_t)(p != NULL ? p->model_revision :
+	    m->revision), "routes", arr);
+}
+
+static json_t *
+arc_json(const struct plan_arc *a)
+{
+	return json_pack("{s:o, s:o, s:o, s:o, s:b}", "load_bps",
+	    num(a->load_bps), "utilization", num(a->util), "headroom_bps",
+	    num(a->headroom_bps), "shadow_price", num(a->shadow_price),
+	    "saturated", a->saturated);
+}
+
+static json_t *
+loads(const struct model *m, const struct plan *p, int64_t revision,
+    bool *okp)
+{
+	json_t *arr;
+	const struct link *l;
+	size_t i;
+
+	arr = json_array();
+	for (i = 0; p != NULL && i < m->n_links; i++) {
+		l = &m->links[i];
+		add(arr, json_pack("{s:s, s:s, s:s, s:s, s:o, s:o, s:o, s:o}",
+		    "id", l->id, "a", m->nodes[l->a].id, "b", m->nodes[l->b].id,
+		    "state", l->up ? "up" : "down",
+		    "capacity_bps", num(l->capacity_bps),
+		    "te_metric", num(l->te_metric),
+		    "a_to_b", arc_json(&p->arcs[2 * i]),
+		    "b_to_a", arc_json(&p->arcs[2 * i + 1])), okp);
+	}
+	return json_pack("{s:I, s:I, s:o, s:o}", "revision",
+	    (json_int_t)revision, "model_revision", (json_int_t)(p != NULL ?
+	    p->model_revision : m->revision), "links", arr,
+	    "max_utilization", p != NULL ? num(p->max_util) : json_null());
+}
+
+int
+codec_plan_render(const struct model *m, const struct plan *p,
+    int64_t revision, char **summaryp, size_t *summary_lenp, char **routesp,
+    size_t *routes_lenp, char **loadsp, size_t *loads_lenp)
+{
+	char *s = NULL, *rt = NULL, *ld = NULL;
+	size_t slen = 0, rlen = 0, llen = 0;
+	bool ok = true;
+	int r;
+
+	r = ERR_INTERNAL;
+	*summaryp = *routesp = *loadsp = NULL;
+	*summary_lenp = *routes_lenp = *loads_lenp = 0;
+	if (m == NULL || (p != NULL && !fits(m, p)))
+		goto out;
+	/*
+	 * A json_pack() given a NULL "o" value fails and returns NULL, so
+	 * any failure inside shows up as a NULL text here.
+	 */
+	if ((s = dump(summary(m, p, revision, &ok), &slen)) == NULL ||
+	    (rt = dump(routes(m, p, revision, &ok), &rlen)) == NULL ||
+	    (ld = dump(loads(m, p, revision, &ok), &llen)) == NULL || !ok)
+		goto out;
+	*summaryp = s;
+	*summary_lenp = slen;
+	*routesp = rt;
+	*routes_lenp = rlen;
+	*loadsp = ld;
+	*loads_lenp = llen;
+	s = rt = ld = NULL;
+	r = 0;
+out:
+	free(s);
+	free(rt);
+	free(ld);
+	return r;
+}

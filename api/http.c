@@ -1,0 +1,430 @@
+/* SPDX-License-Identifier: GPL-3.0-or-later */
+/* libmicrohttpd glue: start and stop the server, run each request's life. */
+
+/*
+ * DESIGN
+ * libmicrohttpd runs a pool of conf->threads threads (epoll where
+ * available); each connection stays on one thread, so a struct req is
+ * never touched by two threads.  libmicrohttpd calls on_request() several
+ * times per request:
+ *   1. first, with the headers: the req is made, the route matched, the
+ *      Content-Type and Content-Length checked.  A failure here is kept in
+ *      req->early and replied to at step 3, unless the client waits for
+ *      "100 Continue", in which case it is replied to at once and the body
+ *      is never sent.
+ *   2. with each piece of the body: kept up to the route's limit; past the
+ *      limit (or after an early failure) counted and dropped, so a client
+ *      still reads its 413; past DISCARD_MAX the connection is closed.
+ *   3. last, with no data: the handler runs (or the early error is
+ *      replied) and the reply is queued.
+ * on_completed() logs the request line and frees the req.  Reply bodies
+ * are handed to libmicrohttpd without copying: owned text is freed by its
+ * free callback, a borrowed plan text drops its plan reference there.
+ */
+
+#include <sys/socket.h>
+#include <sys/types.h>
+
+#include <netdb.h>
+#include <stdarg.h>
+#include <stdatomic.h>
+#include <stdio.h>
+#include <stdlib.h>
+#include <string.h>
+#include <strings.h>
+#include <time.h>
+
+#include <microhttpd.h>
+
+#include "http.h"
+#include "../daemon/base/err.h"
+#include "../daemon/base/log.h"
+#include "../daemon/base/xalloc.h"
+#include "../daemon/service.h"
+#include "reply.h"
+#include "routes.h"
+
+/* Body bytes read and dropped before the connection is simply closed. */
+#define DISCARD_MAX	((size_t)64 * 1024 * 1024)
+
+struct http {
+	struct MHD_Daemon *mhd;
+	struct service *svc;	/* borrowed */
+	size_t max_body;	/* bytes */
+	unsigned boot;		/* start time, makes request ids unique */
+	atomic_ullong n_req;	/* requests so far */
+};
+
+static uint64_t
+now_ns(void)
+{
+	struct timespec ts;
+
+	clock_gettime(CLOCK_MONOTONIC, &ts);
+	return (uint64_t)ts.tv_sec * 1000000000u + (uint64_t)ts.tv_nsec;
+}
+
+const char *
+http_query(struct req *rq, const char *key)
+{
+	return MHD_lookup_connection_value(rq->conn, MHD_GET_ARGUMENT_KIND,
+	    key);
+}
+
+const char *
+http_header(struct req *rq, const char *key)
+{
+	return MHD_lookup_connection_value(rq->conn, MHD_HEADER_KIND, key);
+}
+
+/* Frees rq and everything it owns. */
+static void
+req_free(struct req *rq)
+{
+	if (rq == NULL)
+		return;
+	reply_clear(rq);
+	free(rq->body);
+	free(rq->path);
+	free(rq);
+}
+
+/*
+ * Step 1: makes the req, matches the route, checks the headers.  Errors
+ * land in rq->early.
+ */
+static struct req *
+req_new(struct http *h, struct MHD_Connection *conn, const char *url,
+    const char *method)
+{
+	struct req *rq;
+	const char *cl, *ctype;
+	unsigned long long n;
+	char *end;
+	int r;
+
+	rq = xcalloc(1, sizeof(*rq));
+	rq->start_ns = now_ns();
+	rq->svc = h->svc;
+	rq->conn = conn;
+	snprintf(rq->method, sizeof(rq->method), "%s", method);
+	rq->path = xstrdup(url);
+	snprintf(rq->id, sizeof(rq->id), "%08x-%llu", h->boot,
+	    (unsigned long long)atomic_fetch_add(&h->n_req, 1) + 1);
+
+	r = routes_match(rq->method, rq->path, &rq->route, rq->param,
+	    sizeof(rq->param), rq->allow, sizeof(rq->allow), &rq->early_e);
+	if (r != 0) {
+		rq->early = r;
+		return rq;
+	}
+	rq->body_max = rq->route->body == BODY_NONE ? 0 :
+	    rq->route->body_max == ROUTE_BODY_CONF ? h->max_body :
+	    rq->route->body_max;
+	cl = http_header(rq, MHD_HTTP_HEADER_CONTENT_LENGTH);
+	if (cl != NULL) {
+		n = strtoull(cl, &end, 10);
+		if (end != cl && *end == '\0' && n > rq->body_max) {
+			rq->early = err_set(&rq->early_e, ERR_TOOBIG, "body",
+			    rq->body_max == 0 ? "this route takes no body" :
+			    "body of %llu bytes exceeds the limit of %zu", n,
+			    rq->body_max);
+			return rq;
+		}
+	}
+	ctype = http_header(rq, MHD_HTTP_HEADER_CONTENT_TYPE);
+	if ((r = routes_check_ctype(rq->route, ctype, &rq->early_e)) != 0)
+		rq->early = r;
+	return rq;
+}
+
+/* Step 2: keeps or drops a piece of the body.  Returns false to close. */
+static bool
+take_body(struct req *rq, const char *data, size_t n)
+{
+	size_t cap, need;
+
+	rq->body_seen += n;
+	if (rq->early == 0 && n > rq->body_max - rq->body_len) {
+		rq->early = err_set(&rq->early_e, ERR_TOOBIG, "body",
+		    rq->body_max == 0 ? "this route takes no body" :
+		    "body exceeds the limit of %zu bytes", rq->body_max);
+		free(rq->body);
+		rq->body = NULL;
+		rq->body_len = 0;
+		rq->body_cap = 0;
+	}
+	if (rq->early != 0)
+		return rq->body_seen <= DISCARD_MAX;
+	/* Grow by doubling, never past the limit (plus the NUL). */
+	need = rq->body_len + n + 1;
+	if (need > rq->body_cap) {
+		cap = rq->body_cap == 0 ? 4096 : rq->body_cap;
+		while (cap < need)
+			cap *= 2;
+		if (cap > rq->body_max + 1)
+			cap = rq->body_max + 1;
+		rq->body = xreallocarray(rq->body, 1, cap);
+		rq->body_cap = cap;
+	}
+	memcpy(rq->body + rq->body_len, data, n);
+	rq->body_len += n;
+	rq->body[rq->body_len] = '\0';
+	return true;
+}
+
+static void
+unref_plan(void *cls)
+{
+	service_plan_unref(cls);
+}
+
+/* Step 3: turns rq's reply into a response and queues it. */
+static enum MHD_Result
+send_reply(struct MHD_Connection *conn, struct req *rq)
+{
+	struct MHD_Response *resp;
+	enum MHD_Result ret;
+	char num[32];
+
+	if (rq->status == 0) {
+		struct err e = { 0 };
+
+		err_set(&e, ERR_INTERNAL, NULL, "handler set no reply");
+		reply_error(rq, ERR_INTERNAL, &e);
+	}
+	if (rq->out_plan != NULL) {
+		resp = MHD_create_response_from_buffer_with_free_callback_cls(
+		    rq->out_len, rq->out, unref_plan, rq->out_plan);
+		if (resp != NULL)
+			rq->out_plan = NULL;
+	} else {
+		resp = MHD_create_response_from_buffer_with_free_callback(
+		    rq->out_len, rq->out, free);
+	}
+	if (resp == NULL) {
+		log_err("cannot create a response id=%s", rq->id);
+		return MHD_NO;
+	}
+	rq->out = NULL;		/* libmicrohttpd's now */
+	MHD_add_response_header(resp, MHD_HTTP_HEADER_CONTENT_TYPE,
+	    rq->ctype != NULL ? rq->ctype : "application/json");
+	MHD_add_response_header(resp, "X-Request-Id", rq->id);
+	if (rq->allow[0] != '\0')
+		MHD_add_response_header(resp, MHD_HTTP_HEADER_ALLOW,
+		    rq->allow);
+	if (rq->etag[0] != '\0')
+		MHD_add_response_header(resp, MHD_HTTP_HEADER_ETAG, rq->etag);
+	if (rq->retry_after_s > 0) {
+		snprintf(num, sizeof(num), "%d", rq->retry_after_s);
+		MHD_add_response_header(resp, MHD_HTTP_HEADER_RETRY_AFTER,
+		    num);
+	}
+	if (rq->status >= 400)
+		MHD_add_response_header(resp, MHD_HTTP_HEADER_CACHE_CONTROL,
+		    "no-store");
+	ret = MHD_queue_response(conn, (unsigned)rq->status, resp);
+	MHD_destroy_response(resp);
+	return ret;
+}
+
+static enum MHD_Result
+on_request(void *cls, struct MHD_Connection *conn, const char *url,
+    const char *method, const char *version, const char *upload_data,
+    size_t *upload_data_size, void **con_cls)
+{
+	struct http *h = cls;
+	struct req *rq = *con_cls;
+	struct err e = { 0 };
+	const char *expect;
+	int r;
+
+	(void)version;
+	if (rq == NULL) {
+		rq = req_new(h, conn, url, method);
+		*con_cls = rq;
+		expect = http_header(rq, MHD_HTTP_HEADER_EXPECT);
+		if (rq->early != 0 && expect != NULL &&
+		    strcasecmp(expect, "100-continue") == 0) {
+			/* Refuse before the client sends the body. */
+			reply_error(rq, rq->early, &rq->early_e);
+			return send_reply(conn, rq);
+		}
+		return MHD_YES;
+	}
+	if (*upload_data_size != 0) {
+		if (rq->status != 0) {
+			/* Already replied (step 1): drop the rest. */
+			*upload_data_size = 0;
+			return MHD_YES;
+		}
+		if (!take_body(rq, upload_data, *upload_data_size))
+			return MHD_NO;
+		*upload_data_size = 0;
+		return MHD_YES;
+	}
+	if (rq->status != 0)
+		return MHD_YES;
+	if (rq->early != 0) {
+		reply_error(rq, rq->early, &rq->early_e);
+	} else if ((r = rq->route->fn(rq, &e)) != 0) {
+		if (e.code == 0)
+			err_set(&e, r, NULL, "%s", err_str(r));
+		reply_error(rq, r, &e);
+	}
+	return send_reply(conn, rq);
+}
+
+/* Copies s into buf for a log line: no control characters, capped. */
+static const char *
+printable(const char *s, char *buf, size_t n)
+{
+	size_t i;
+
+	for (i = 0; s[i] != '\0' && i + 1 < n; i++)
+		buf[i] = (unsigned char)s[i] < 0x20 || s[i] == 0x7f ||
+		    s[i] == ' ' ? '?' : s[i];
+	buf[i] = '\0';
+	return buf;
+}
+
+static void
+on_completed(void *cls, struct MHD_Connection *conn, void **con_cls,
+    enum MHD_RequestTerminationCode toe)
+{
+	struct req *rq = *con_cls;
+	char path[160];
+
+	(void)cls;
+	(void)conn;
+	if (rq == NULL)
+		return;
+	log_info("request method=%s path=%s status=%d bytes=%zu ms=%.3f "
+	    "id=%s%s", rq->method, printable(rq->path, path, sizeof(path)),
+	    rq->status, rq->out_len,
+	    (double)(now_ns() - rq->start_ns) / 1e6, rq->id,
+	    toe == MHD_REQUEST_TERMINATED_COMPLETED_OK ? "" :
+	    " aborted=yes");
+	req_free(rq);
+	*con_cls = NULL;
+}
+
+static void
+mhd_log(void *cls, const char *fmt, va_list ap)
+{
+	char buf[512];
+
+	(void)cls;
+	vsnprintf(buf, sizeof(buf), fmt, ap);
+	log_warn("http: %s", buf);
+}
+
+/*
+ * Splits "host:port" or "[v6]:port" and resolves it (numeric port, the
+ * first address found).  Returns 0 with *aip (freeaddrinfo) or
+ * ERR_INVALID.
+ */
+static int
+resolve(const char *listen, struct addrinfo **aip, struct err *e)
+{
+	struct addrinfo hints;
+	char host[256];
+	const char *colon, *port;
+	size_t n;
+	int gr;
+
+	*aip = NULL;
+	if (listen == NULL || listen[0] == '\0')
+		return err_set(e, ERR_INVALID, "listen", "no listen address");
+	if (listen[0] == '[') {
+		colon = strchr(listen, ']');
+		if (colon == NULL || colon[1] != ':')
+			goto bad;
+		n = (size_t)(colon - listen - 1);
+		if (n >= sizeof(host))
+			goto bad;
+		memcpy(host, listen + 1, n);
+		port = colon + 2;
+	} else {
+		colon = strrchr(listen, ':');
+		if (colon == NULL)
+			goto bad;
+		n = (size_t)(colon - listen);
+		if (n >= sizeof(host) || memchr(listen, ':', n) != NULL)
+			goto bad;
+		memcpy(host, listen, n);
+		port = colon + 1;
+	}
+	host[n] = '\0';
+	if (n == 0 || port[0] == '\0')
+		goto bad;
+	memset(&hints, 0, sizeof(hints));
+	hints.ai_family = AF_UNSPEC;
+	hints.ai_socktype = SOCK_STREAM;
+	hints.ai_flags = AI_PASSIVE | AI_NUMERICSERV;
+	if ((gr = getaddrinfo(host, port, &hints, aip)) != 0)
+		return err_set(e, ERR_INVALID, "listen", "cannot resolve "
+		    "\"%s\": %s", listen, gai_strerror(gr));
+	return 0;
+bad:
+	return err_set(e, ERR_INVALID, "listen", "\"%s\" is not host:port "
+	    "or [address]:port", listen);
+}
+
+int
+http_start(const struct http_conf *c, struct service *svc, struct http **hp,
+    struct err *e)
+{
+	struct http *h = NULL;
+	struct addrinfo *ai = NULL;
+	unsigned flags;
+	int r;
+
+	r = ERR_INTERNAL;
+	*hp = NULL;
+	if ((r = resolve(c->listen, &ai, e)) != 0)
+		goto out;
+	h = xcalloc(1, sizeof(*h));
+	h->svc = svc;
+	h->max_body = c->max_body_bytes;
+	h->boot = (unsigned)time(NULL);
+	flags = MHD_USE_INTERNAL_POLLING_THREAD | MHD_USE_AUTO |
+	    MHD_USE_ERROR_LOG;
+	if (ai->ai_family == AF_INET6)
+		flags |= MHD_USE_IPv6;
+	h->mhd = MHD_start_daemon(flags, 0, NULL, NULL, on_request, h,
+	    MHD_OPTION_SOCK_ADDR, ai->ai_addr,
+	    MHD_OPTION_THREAD_POOL_SIZE, c->threads > 0 ? c->threads : 1u,
+	    MHD_OPTION_CONNECTION_LIMIT, c->max_connections > 0 ?
+	    c->max_connections : 64u,
+	    MHD_OPTION_PER_IP_CONNECTION_LIMIT, c->per_ip_limit,
+	    MHD_OPTION_CONNECTION_TIMEOUT, c->timeout_s,
+	    MHD_OPTION_NOTIFY_COMPLETED, on_completed, h,
+	    MHD_OPTION_EXTERNAL_LOGGER, mhd_log, h,
+	    MHD_OPTION_END);
+	if (h->mhd == NULL) {
+		r = err_set(e, ERR_IO, "listen", "cannot serve HTTP on %s",
+		    c->listen);
+		goto out;
+	}
+	log_info("http listening addr=%s threads=%u max_body=%zu", c->listen,
+	    c->threads, c->max_body_bytes);
+	*hp = h;
+	h = NULL;
+	r = 0;
+out:
+	if (ai != NULL)
+		freeaddrinfo(ai);
+	free(h);
+	return r;
+}
+
+void
+http_stop(struct http *h)
+{
+	if (h == NULL)
+		return;
+	if (h->mhd != NULL)
+		MHD_stop_daemon(h->mhd);
+	free(h);
+}

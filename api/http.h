@@ -1,0 +1,99 @@
+/* SPDX-License-Identifier: GPL-3.0-or-later */
+/* The HTTP server: libmicrohttpd glue, the per-request struct, its helpers. */
+#ifndef WEFT_API_HTTP_H
+#define WEFT_API_HTTP_H
+
+/*
+ * DESIGN
+ * http_start() runs libmicrohttpd with its own thread pool; every request
+ * is handled on one of those threads from start to end.  One struct req
+ * per request owns everything allocated for it (the body, the reply, a
+ * plan reference) and is freed in libmicrohttpd's completion callback,
+ * after the reply was sent or the connection dropped.  Handlers never see
+ * libmicrohttpd: they read the request through struct req and the
+ * http_query()/http_header() helpers and leave their reply in the req
+ * through api/reply.h; http.c turns that into a libmicrohttpd response.
+ * microhttpd.h is included by http.c only.
+ */
+
+#include <stdbool.h>
+#include <stddef.h>
+#include <stdint.h>
+
+#include "../daemon/base/err.h"
+
+struct http;
+struct published;
+struct route;
+struct service;
+
+/* Server settings (from the daemon's config). */
+struct http_conf {
+	const char *listen;	/* "host:port", "[v6addr]:port"; borrowed
+				   only during http_start */
+	size_t max_body_bytes;	/* largest request body, bytes */
+	unsigned max_connections;	/* open connections in total */
+	unsigned per_ip_limit;	/* open connections per client address;
+				   0: no limit */
+	unsigned timeout_s;	/* idle connection timeout, s; 0: none */
+	unsigned threads;	/* worker threads, >= 1 */
+};
+
+#define REQ_ID_MAX	32	/* request id text, with its NUL */
+#define REQ_PARAM_MAX	256	/* captured path segment, with its NUL */
+
+/*
+ * One request.  Fields marked "reply" are filled by api/reply.c and read
+ * by http.c once the handler returns.
+ */
+struct req {
+	char id[REQ_ID_MAX];	/* request id, also sent as X-Request-Id */
+	struct service *svc;	/* borrowed: the daemon's service */
+	void *conn;		/* borrowed: the libmicrohttpd connection */
+	char method[16];	/* request method, truncated if longer */
+	char *path;		/* owned copy of the (decoded) URL path */
+	const struct route *route;	/* matched route, NULL if none */
+	char param[REQ_PARAM_MAX];	/* the path's {name} segment, "" */
+	size_t body_max;	/* limit for this route, bytes */
+	char *body;		/* owned, NUL-terminated; NULL: no body */
+	size_t body_len;	/* bytes received and kept */
+	size_t body_cap;	/* bytes allocated at body */
+	size_t body_seen;	/* bytes received, kept or not */
+	int early;		/* error decided before the body: 0 or code */
+	struct err early_e;	/* its detail */
+	uint64_t start_ns;	/* monotonic clock at arrival */
+
+	/* reply */
+	int status;		/* HTTP status; 0 while no reply is set */
+	const char *ctype;	/* static Content-Type of the reply */
+	char *out;		/* owned reply body, or NULL */
+	size_t out_len;
+	struct published *out_plan;	/* reference held; when set, out
+					   points into it (not owned) */
+	char allow[64];		/* Allow header, "" if none */
+	int retry_after_s;	/* Retry-After header when > 0 */
+	char etag[32];		/* ETag header, "" if none */
+};
+
+/*
+ * Starts the server on c->listen with c->threads worker threads; svc is
+ * borrowed until http_stop().  Returns 0 and the server in *hp, or
+ * ERR_INVALID (bad listen address, with where "listen") / ERR_IO (cannot
+ * bind) with detail in e.  Called once, by main.
+ */
+int http_start(const struct http_conf *c, struct service *svc,
+    struct http **hp, struct err *e);
+
+/* Stops accepting, waits for requests in flight, frees h (NULL ok). */
+void http_stop(struct http *h);
+
+/*
+ * Returns the decoded value of query parameter key, or NULL if absent.
+ * The text is borrowed for the request.  Handler threads only.
+ */
+const char *http_query(struct req *rq, const char *key);
+
+/* Returns request header key (case-insensitive), or NULL if absent. */
+const char *http_header(struct req *rq, const char *key);
+
+#endif /* WEFT_API_HTTP_H */

@@ -1,0 +1,249 @@
+/* SPDX-License-Identifier: GPL-3.0-or-later */
+/* The option table and its readers: config file, command line, dump. */
+
+/*
+ * DESIGN
+ * One table gives each option's key, type, field, default, range and help
+ * line.  Every field starts unset; the command line is applied first (it
+ * wins), then the file fills what it names and is still unset, then the
+ * defaults fill the rest.  Read-only after start-up.
+ */
+
+#include <ctype.h>
+#include <errno.h>
+#include <stddef.h>
+#include <stdint.h>
+#include <stdio.h>
+#include <stdlib.h>
+#include <string.h>
+
+#include "config.h"
+#include "base/err.h"
+#include "base/xalloc.h"
+
+enum opt_type {
+	OPT_STR,
+	OPT_LONG,
+};
+
+static const struct option_def {
+	const char *key;
+	enum opt_type type;
+	size_t off;
+	const char *def;
+	long min, max;
+	const char *help;
+} options[] = {
+	{ "db", OPT_STR, offsetof(struct config, db), "weft.db", 0, 0,
+	    "SQLite database file (created if missing)" },
+	{ "listen", OPT_STR, offsetof(struct config, listen), "127.0.0.1:8470",
+	    0, 0, "address and port to serve HTTP on" },
+	{ "log_level", OPT_STR, offsetof(struct config, log_level), "info", 0,
+	    0, "error, warn, info or debug" },
+	{ "debounce_ms", OPT_LONG, offsetof(struct config, debounce_ms), "50",
+	    0, 60000, "quiet time after a change before re-solving, ms" },
+	{ "solve_time_limit_s", OPT_LONG,
+	    offsetof(struct config, solve_time_limit_s), "600", 0, 86400,
+	    "time limit of one solve, s (0: none)" },
+	{ "max_body_bytes", OPT_LONG, offsetof(struct config, max_body_bytes),
+	    "33554432", 1024, 1L << 30, "largest request body accepted, bytes" },
+	{ "max_connections", OPT_LONG,
+	    offsetof(struct config, max_connections), "256", 1, 65536,
+	    "open HTTP connections in total" },
+	{ "per_client_connections", OPT_LONG,
+	    offsetof(struct config, per_client_connections), "64", 1, 65536,
+	    "open HTTP connections per client address" },
+	{ "request_timeout_s", OPT_LONG,
+	    offsetof(struct config, request_timeout_s), "60", 1, 3600,
+	    "idle HTTP connection timeout, s" },
+	{ "http_threads", OPT_LONG, offsetof(struct config, http_threads), "4",
+	    1, 256, "HTTP worker threads" },
+	{ "plan_history", OPT_LONG, offsetof(struct config, plan_history),
+	    "1000", 1, 1000000, "plan summaries kept in the database" },
+};
+
+#define N_OPTIONS	(sizeof(options) / sizeof(options[0]))
+
+static char **
+str_field(struct config *c, const struct option_def *o)
+{
+	return (char **)(void *)((char *)c + o->off);
+}
+
+static long *
+long_field(struct config *c, const struct option_def *o)
+{
+	return (long *)(void *)((char *)c + o->off);
+}
+
+static const struct option_def *
+find_option(const char *key)
+{
+	char norm[64];
+	size_t i;
+
+	for (i = 0; key[i] != '\0' && i < sizeof(norm) - 1; i++)
+		norm[i] = key[i] == '-' ? '_' : key[i];
+	norm[i] = '\0';
+	for (i = 0; i < N_OPTIONS; i++)
+		if (strcmp(options[i].key, norm) == 0)
+			return &options[i];
+	return NULL;
+}
+
+void
+config_init(struct config *c)
+{
+	size_t i;
+
+	memset(c, 0, sizeof(*c));
+	for (i = 0; i < N_OPTIONS; i++)
+		if (options[i].type == OPT_LONG)
+			*long_field(c, &options[i]) = -1;
+}
+
+void
+config_clear(struct config *c)
+{
+	size_t i;
+
+	for (i = 0; i < N_OPTIONS; i++) {
+		if (options[i].type == OPT_STR) {
+			free(*str_field(c, &options[i]));
+			*str_field(c, &options[i]) = NULL;
+		}
+	}
+}
+
+static int
+set_value(struct config *c, const struct option_def *o, const char *value,
+    bool only_unset, const char *where, struct err *e)
+{
+	char *end;
+	long v;
+
+	if (o->type == OPT_STR) {
+		if (only_unset && *str_field(c, o) != NULL)
+			return 0;
+		if (value[0] == '\0')
+			return err_set(e, ERR_INVALID, where,
+			    "%s: empty value", o->key);
+		free(*str_field(c, o));
+		*str_field(c, o) = xstrdup(value);
+		return 0;
+	}
+	if (only_unset && *long_field(c, o) != -1)
+		return 0;
+	errno = 0;
+	v = strtol(value, &end, 10);
+	if (errno != 0 || end == value || *end != '\0')
+		return err_set(e, ERR_INVALID, where, "%s: not an integer: %.40s",
+		    o->key, value);
+	if (v < o->min || v > o->max)
+		return err_set(e, ERR_INVALID, where,
+		    "%s: %ld is outside %ld..%ld", o->key, v, o->min, o->max);
+	*long_field(c, o) = v;
+	return 0;
+}
+
+int
+config_set(struct config *c, const char *key, const char *value,
+    const char *where, struct err *e)
+{
+	const struct option_def *o;
+
+	if ((o = find_option(key)) == NULL)
+		return err_set(e, ERR_NOTFOUND, where, "unknown option %.64s",
+		    key);
+	return set_value(c, o, value, false, where, e);
+}
+
+int
+config_read_file(struct config *c, const char *path, struct err *e)
+{
+	const struct option_def *o;
+	char line[1024], where[ERR_WHERE_MAX];
+	char *key, *value, *p;
+	FILE *f;
+	int lineno = 0, r = 0;
+
+	if ((f = fopen(path, "r")) == NULL)
+		return err_set(e, ERR_IO, path, "cannot open: %s",
+		    strerror(errno));
+	while (fgets(line, sizeof(line), f) != NULL) {
+		lineno++;
+		snprintf(where, sizeof(where), "%s:%d", path, lineno);
+		if (strchr(line, '\n') == NULL && !feof(f)) {
+			r = err_set(e, ERR_INVALID, where, "line too long");
+			break;
+		}
+		if ((p = strchr(line, '#')) != NULL)
+			*p = '\0';
+		key = line;
+		while (isspace((unsigned char)*key))
+			key++;
+		if (*key == '\0')
+			continue;
+		value = key;
+		while (*value != '\0' && !isspace((unsigned char)*value))
+			value++;
+		if (*value != '\0')
+			*value++ = '\0';
+		while (isspace((unsigned char)*value))
+			value++;
+		p = value + strlen(value);
+		while (p > value && isspace((unsigned char)p[-1]))
+			*--p = '\0';
+		if ((o = find_option(key)) == NULL) {
+			r = err_set(e, ERR_INVALID, where, "unknown option %.64s",
+			    key);
+			break;
+		}
+		if ((r = set_value(c, o, value, true, where, e)) != 0)
+			break;
+	}
+	fclose(f);
+	return r;
+}
+
+void
+config_defaults(struct config *c)
+{
+	size_t i;
+
+	for (i = 0; i < N_OPTIONS; i++)
+		(void)set_value(c, &options[i], options[i].def, true, NULL, NULL);
+}
+
+void
+config_dump(const struct config *c, FILE *f)
+{
+	struct config *cc = (struct config *)(uintptr_t)c;
+	size_t i;
+
+	for (i = 0; i < N_OPTIONS; i++) {
+		if (options[i].type == OPT_STR)
+			fprintf(f, "%s %s\n", options[i].key,
+			    *str_field(cc, &options[i]) != NULL ?
+			    *str_field(cc, &options[i]) : "");
+		else
+			fprintf(f, "%s %ld\n", options[i].key,
+			    *long_field(cc, &options[i]));
+	}
+}
+
+void
+config_help(FILE *f)
+{
+	size_t i;
+
+	for (i = 0; i < N_OPTIONS; i++) {
+		if (options[i].type == OPT_LONG)
+			fprintf(f, "  --%-24s %s (default %s, %ld..%ld)\n",
+			    options[i].key, options[i].help, options[i].def,
+			    options[i].min, options[i].max);
+		else
+			fprintf(f, "  --%-24s %s (default %s)\n",
+			    options[i].key, options[i].help, options[i].def);
+	}
+}

@@ -1,0 +1,56 @@
+/* SPDX-License-Identifier: GPL-3.0-or-later */
+/* weftd's configuration: one option table drives file, command line, -T. */
+#ifndef WEFT_DAEMON_CONFIG_H
+#define WEFT_DAEMON_CONFIG_H
+
+#include <stdbool.h>
+#include <stddef.h>
+#include <stdio.h>
+
+struct err;
+
+struct config {
+	char *db;		/* owned: SQLite database file */
+	char *listen;		/* owned: host:port to listen on */
+	char *log_level;	/* owned: error, warn, info, debug */
+	long debounce_ms;	/* quiet time before a re-solve, ms */
+	long solve_time_limit_s;	/* per solve; 0 = no limit */
+	long max_body_bytes;	/* largest request body accepted */
+	long max_connections;	/* open connections in total */
+	long per_client_connections;	/* open connections per address */
+	long request_timeout_s;	/* idle connection timeout */
+	long http_threads;	/* HTTP worker threads */
+	long plan_history;	/* plan summaries kept in SQLite */
+};
+
+/* Sets every field to "unset" (NULL strings, -1 numbers). */
+void config_init(struct config *c);
+
+/* Frees the strings c owns. */
+void config_clear(struct config *c);
+
+/*
+ * Reads "key value" lines from path (# starts a comment) into the fields
+ * still unset.  An unknown key or a bad value is ERR_INVALID with where
+ * "path:line".
+ */
+int config_read_file(struct config *c, const char *path, struct err *e);
+
+/*
+ * Sets key (dashes and underscores are the same) to value, checking type
+ * and range.  ERR_NOTFOUND for an unknown key, ERR_INVALID for a bad
+ * value.  Later calls override earlier ones.
+ */
+int config_set(struct config *c, const char *key, const char *value,
+    const char *where, struct err *e);
+
+/* Fills every field still unset with its default. */
+void config_defaults(struct config *c);
+
+/* Prints the effective configuration as "key value" lines. */
+void config_dump(const struct config *c, FILE *f);
+
+/* Prints one line per option: key, default, range and help. */
+void config_help(FILE *f);
+
+#endif /* WEFT_DAEMON_CONFIG_H */

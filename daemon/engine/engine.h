@@ -1,0 +1,63 @@
+/* SPDX-License-Identifier: GPL-3.0-or-later */
+/* The engine's entry point: solve a model into a plan, export the LP. */
+#ifndef WEFT_ENGINE_ENGINE_H
+#define WEFT_ENGINE_ENGINE_H
+
+/*
+ * DESIGN
+ * The engine is a library (libengine.a): no threads, no HTTP, no SQL.  Any
+ * thread may call these functions on its own model; GLPK problem objects
+ * live within one call (GLPK here keeps its environment thread-local).
+ *
+ * The node-arc formulation aggregates demands per source (one flow
+ * variable per source and arc).  Rates are scaled so the largest arc
+ * capacity is 1 LP unit before GLPK sees them.  Stages, each a GLPK simplex
+ * warm-started from the previous basis:
+ *   1. admission, when not all traffic fits within capacity x headroom:
+ *      for priority 0, 1, ...: maximise carried traffic of that class,
+ *      then fix it (within a tiny tolerance);
+ *   2. balance only: minimise U, the max utilisation (load <= U x cap),
+ *      then fix U within policy.balance_tol;
+ *   3. minimise sum TE metric x flow.
+ * The plan's routes come from decomposing each source's arc flows into
+ * paths; loads, costs and totals are recomputed from those paths.
+ */
+
+#include "model.h"
+#include "plan.h"
+
+struct err;
+
+enum export_format {
+	EXPORT_LP = 0,		/* the LP text format (glp_write_lp) */
+	EXPORT_MPS = 1,		/* free MPS (glp_write_mps, GLP_MPS_FILE) */
+};
+
+struct solve_opts {
+	double time_limit_s;	/* per engine_solve; 0: none */
+	bool verbose;		/* route GLPK's terminal output to the log */
+	/* Export: when export_path is set, the LP of stage export_stage
+	   (index into plan->stages order; -1: the last stage) is written
+	   there before it is solved. */
+	const char *export_path;
+	int export_stage;
+	enum export_format export_format;
+};
+
+/* Fills o with the defaults: no time limit, quiet, no export. */
+void solve_opts_default(struct solve_opts *o);
+
+/*
+ * Checks m (ids, ranges, references, policy), builds the LP and solves it.
+ * Returns 0 with a new plan in *planp (the caller frees it with
+ * plan_free), ERR_INVALID for a bad model, ERR_TIMEOUT when the time limit
+ * passed, ERR_SOLVER when GLPK failed; detail in e.  An empty matrix gives
+ * a plan with status PLAN_EMPTY; unserved traffic gives PLAN_PARTIAL.
+ */
+int engine_solve(const struct model *m, const struct solve_opts *o,
+    struct plan **planp, struct err *e);
+
+/* Checks a model without solving it: 0 or ERR_INVALID with detail. */
+int engine_check(const struct model *m, struct err *e);
+
+#endif /* WEFT_ENGINE_ENGINE_H */

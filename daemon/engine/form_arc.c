@@ -1,0 +1,920 @@
+/* SPDX-License-Identifier: GPL-3.0-or-later */
+/* The node-arc formulation and the engine's entry points. */
+
+/*
+ * DESIGN
+ * One LP, built once per solve and re-optimised stage by stage from the
+ * previous basis (see engine.h for the stages).  In LP units (bit/s divided
+ * by scale, the largest capacity of an up link):
+ *
+ *   f[s][a] >= 0   flow of source s on arc a, for each source s with
+ *                  positive demand and each arc a of an up link, except
+ *                  arcs into s (flow into its own source is never useful)
+ *   u[k] in [0, d_k]  unserved part of demand k, for each d_k > 0
+ *   U in [0, h]    the utilisation bound (balance objective only)
+ *
+ *   cons_s_v:  out_s(v) - in_s(v) - sum{u_k : s_k = s, t_k = v}
+ *                  = -sum{d_k : s_k = s, t_k = v}     for v != s
+ *   cap_a:     sum_s f[s][a] <= h c_a      (cost)
+ *              sum_s f[s][a] - c_a U <= 0  (balance)
+ *
+ * Conservation at s itself follows from the rows of the other nodes and
+ * is left out.  Admission minimises sum u (all, then per priority class,
+ * each class fixed by a row before the next); balance minimises U and
+ * then caps it; cost minimises sum (metric_a / max metric) f[s][a].  The
+ * first stage starts from the all-slack basis, where every variable sits
+ * at zero with a non-negative cost, so the dual simplex starts dual
+ * feasible; later stages only change the objective or add a row the
+ * current point satisfies, so the primal simplex continues from a
+ * feasible basis.
+ *
+ * After the last stage each source's flow is decomposed into paths
+ * (decomp.c), and every reported load, utilisation and total is computed
+ * from those paths, never from the LP's arc values, so routes and loads
+ * always agree.
+ */
+
+#include <math.h>
+#include <stdio.h>
+#include <stdlib.h>
+#include <string.h>
+#include <time.h>
+
+#include "form_arc.h"
+#include "decomp.h"
+#include "lp.h"
+#include "../base/err.h"
+#include "../base/log.h"
+#include "../base/xalloc.h"
+
+/* Flow at or below this many LP units is numerical dust. */
+#define DUST		1e-13
+/* A stage optimum at or below this share of the demand counts as zero. */
+#define ZERO_REL	1e-12
+/* Slack when a priority class's unserved optimum is fixed, relative. */
+#define FIX_REL		1e-9
+/* Slack on U when it is capped, absolute, on top of balance_tol. */
+#define U_ABS		1e-12
+/* Unserved traffic at or below this share of the demand: all carried. */
+#define SERVED_REL	1e-9
+/* Smallest shadow price (bit/s per bit/s) that marks a link saturated. */
+#define PRICE_MIN	1e-9
+
+struct arcform {
+	const struct model *m;
+	const struct solve_opts *o;
+	struct lp *lp;
+	struct plan *p;		/* the plan being built, owned by the caller */
+	double t0;		/* ms, when the solve began */
+	double scale;		/* bit/s per LP unit */
+	double metric_max;	/* largest TE metric of an up link */
+	double headroom;
+	bool balance;
+	size_t n;		/* nodes */
+	size_t n_arcs;		/* model arcs: 2 per link */
+	size_t n_src;
+	size_t *src_node;	/* source -> node */
+	long *src_of;		/* node -> source, or -1 */
+	int *cap_row;		/* model arc -> capacity row, or -1 (down) */
+	int *fcol;		/* source x model arc -> column, or -1 */
+	int *ucol;		/* demand -> column, or -1 (rate 0) */
+	int ucol_U;		/* U's column, or -1 */
+	double *d_lp;		/* demand -> rate in LP units */
+	double demand_lp;	/* sum of d_lp */
+	double *price;		/* model arc -> shadow price */
+	bool *sat;		/* model arc -> saturated */
+	bool named;		/* rows and columns have names */
+	bool exported;
+};
+
+static double
+now_ms(void)
+{
+	struct timespec ts;
+
+	clock_gettime(CLOCK_MONOTONIC, &ts);
+	return (double)ts.tv_sec * 1e3 + (double)ts.tv_nsec / 1e6;
+}
+
+/* ---- checking ---- */
+
+static int
+cmp_str(const void *x, const void *y)
+{
+	return strcmp(*(const char *const *)x, *(const char *const *)y);
+}
+
+/* Finds a repeated id among n ids (sorted copy); returns it or NULL. */
+static const char *
+find_dup(const char **ids, size_t n)
+{
+	size_t i;
+
+	qsort(ids, n, sizeof(*ids), cmp_str);
+	for (i = 1; i < n; i++)
+		if (strcmp(ids[i - 1], ids[i]) == 0)
+			return ids[i];
+	return NULL;
+}
+
+static int
+check_id(const char *id, const char *kind, size_t i, struct err *e)
+{
+	char where[64];
+
+	snprintf(where, sizeof(where), "%s[%zu].id", kind, i);
+	if (id == NULL || id[0] == '\0' || strlen(id) > MODEL_ID_MAX)
+		return err_set(e, ERR_INVALID, where,
+		    "id must be 1 to %d bytes", MODEL_ID_MAX);
+	return 0;
+}
+
+static int
+check_nodes_links(const struct model *m, struct err *e)
+{
+	const struct link *l;
+	const char **ids, *dup;
+	char where[64];
+	size_t i;
+	int r;
+
+	for (i = 0; i < m->n_nodes; i++)
+		if ((r = check_id(m->nodes[i].id, "nodes", i, e)) != 0)
+			return r;
+	for (i = 0; i < m->n_links; i++) {
+		l = &m->links[i];
+		if ((r = check_id(l->id, "links", i, e)) != 0)
+			return r;
+		snprintf(where, sizeof(where), "links[%zu].a", i);
+		if (l->a >= m->n_nodes)
+			return err_set(e, ERR_INVALID, where,
+			    "node index %zu out of range", l->a);
+		snprintf(where, sizeof(where), "links[%zu].b", i);
+		if (l->b >= m->n_nodes)
+			return err_set(e, ERR_INVALID, where,
+			    "node index %zu out of range", l->b);
+		if (l->a == l->b)
+			return err_set(e, ERR_INVALID, where,
+			    "a link needs two different ends");
+		snprintf(where, sizeof(where), "links[%zu].capacity_bps", i);
+		if (!isfinite(l->capacity_bps) || l->capacity_bps <= 0 ||
+		    l->capacity_bps > MODEL_RATE_MAX)
+			return err_set(e, ERR_INVALID, where,
+			    "capacity must be finite, in (0, %g] bit/s",
+			    MODEL_RATE_MAX);
+		snprintf(where, sizeof(where), "links[%zu].te_metric", i);
+		if (!isfinite(l->te_metric) || l->te_metric <= 0 ||
+		    l->te_metric > MODEL_METRIC_MAX)
+			return err_set(e, ERR_INVALID, where,
+			    "TE metric must be finite, in (0, %g]",
+			    MODEL_METRIC_MAX);
+	}
+
+	ids = xcalloc(m->n_nodes + m->n_links, sizeof(*ids));
+	for (i = 0; i < m->n_nodes; i++)
+		ids[i] = m->nodes[i].id;
+	dup = find_dup(ids, m->n_nodes);
+	if (dup != NULL) {
+		r = err_set(e, ERR_INVALID, "nodes",
+		    "duplicate node id \"%s\"", dup);
+		free(ids);
+		return r;
+	}
+	for (i = 0; i < m->n_links; i++)
+		ids[i] = m->links[i].id;
+	dup = find_dup(ids, m->n_links);
+	if (dup != NULL) {
+		r = err_set(e, ERR_INVALID, "links",
+		    "duplicate link id \"%s\"", dup);
+		free(ids);
+		return r;
+	}
+	free(ids);
+	return 0;
+}
+
+int
+engine_check(const struct model *m, struct err *e)
+{
+	const struct demand *d;
+	const struct policy *pol = &m->policy;
+	char where[64];
+	size_t i;
+	int r;
+
+	if ((r = check_nodes_links(m, e)) != 0)
+		return r;
+	for (i = 0; i < m->n_demands; i++) {
+		d = &m->demands[i];
+		snprintf(where, sizeof(where), "demands[%zu].src", i);
+		if (d->src >= m->n_nodes)
+			return err_set(e, ERR_INVALID, where,
+			    "node index %zu out of range", d->src);
+		snprintf(where, sizeof(where), "demands[%zu].dst", i);
+		if (d->dst >= m->n_nodes)
+			return err_set(e, ERR_INVALID, where,
+			    "node index %zu out of range", d->dst);
+		if (d->src == d->dst)
+			return err_set(e, ERR_INVALID, where,
+			    "a demand needs two different ends");
+		snprintf(where, sizeof(where), "demands[%zu].rate_bps", i);
+		if (!isfinite(d->rate_bps) || d->rate_bps < 0 ||
+		    d->rate_bps > MODEL_RATE_MAX)
+			return err_set(e, ERR_INVALID, where,
+			    "rate must be finite, in [0, %g] bit/s",
+			    MODEL_RATE_MAX);
+		snprintf(where, sizeof(where), "demands[%zu].priority", i);
+		if (d->priority < 0 || d->priority > MODEL_PRIO_MAX)
+			return err_set(e, ERR_INVALID, where,
+			    "priority must be in 0..%d", MODEL_PRIO_MAX);
+	}
+	if (pol->objective != OBJ_COST && pol->objective != OBJ_BALANCE)
+		return err_set(e, ERR_INVALID, "policy.objective",
+		    "unknown objective %d", (int)pol->objective);
+	if (!(pol->headroom > 0 && pol->headroom <= 1))
+		return err_set(e, ERR_INVALID, "policy.headroom",
+		    "headroom must be in (0, 1]");
+	if (!(pol->balance_tol >= 0 && pol->balance_tol <= 0.1))
+		return err_set(e, ERR_INVALID, "policy.balance_tol",
+		    "balance tolerance must be in [0, 0.1]");
+	return 0;
+}
+
+/* ---- building the LP ---- */
+
+/* Conservation row of source si at node v (v != the source's node). */
+static int
+cons_row(const struct arcform *f, size_t si, size_t v)
+{
+	size_t s = f->src_node[si];
+
+	return (int)(si * (f->n - 1) + (v < s ? v : v - 1));
+}
+
+/* Finds the sources, the LP unit and the metric scale. */
+static int
+setup(struct arcform *f, struct err *e)
+{
+	const struct model *m = f->m;
+	size_t i, n_up = 0;
+	double cap_max = 0, rate_max = 0;
+
+	f->n = m->n_nodes;
+	f->n_arcs = 2 * m->n_links;
+	f->headroom = m->policy.headroom;
+	f->balance = m->policy.objective == OBJ_BALANCE;
+	f->src_of = xcalloc(f->n, sizeof(*f->src_of));
+	f->src_node = xcalloc(f->n, sizeof(*f->src_node));
+	for (i = 0; i < f->n; i++)
+		f->src_of[i] = -1;
+	for (i = 0; i < m->n_demands; i++) {
+		if (m->demands[i].rate_bps <= 0)
+			continue;
+		rate_max = fmax(rate_max, m->demands[i].rate_bps);
+		if (f->src_of[m->demands[i].src] < 0) {
+			f->src_of[m->demands[i].src] = (long)f->n_src;
+			f->src_node[f->n_src++] = m->demands[i].src;
+		}
+	}
+	f->metric_max = 0;
+	for (i = 0; i < m->n_links; i++) {
+		if (!m->links[i].up)
+			continue;
+		n_up++;
+		cap_max = fmax(cap_max, m->links[i].capacity_bps);
+		f->metric_max = fmax(f->metric_max, m->links[i].te_metric);
+	}
+	/* With no link up, LP units follow the demands instead. */
+	f->scale = cap_max > 0 ? cap_max : rate_max;
+	if (f->metric_max == 0)
+		f->metric_max = 1;
+	if ((double)f->n_src * 2.0 * (double)n_up > FORM_ARC_COLS_MAX)
+		return err_set(e, ERR_TOOBIG, NULL,
+		    "the node-arc LP would have %zu x %zu flow columns, more "
+		    "than %d", f->n_src, 2 * n_up, FORM_ARC_COLS_MAX);
+	return 0;
+}
+
+static void
+build(struct arcform *f)
+{
+	const struct model *m = f->m;
+	const struct link *l;
+	const struct demand *d;
+	size_t si, a, k, s, tail, head, nnz = 0, cap_nnz;
+	int *rows, *cols, n_rows, n_cons, col = 0, j;
+	double *vals, *owed, c;
+
+	n_cons = (int)(f->n_src * (f->n - 1));
+	n_rows = n_cons;
+	f->cap_row = xcalloc(f->n_arcs, sizeof(*f->cap_row));
+	for (a = 0; a < f->n_arcs; a++)
+		f->cap_row[a] = m->links[a / 2].up ? n_rows++ : -1;
+	f->fcol = xcalloc(f->n_src * f->n_arcs, sizeof(*f->fcol));
+	f->ucol = xcalloc(m->n_demands, sizeof(*f->ucol));
+	f->d_lp = xcalloc(m->n_demands, sizeof(*f->d_lp));
+
+	/* Number the columns: flows by source, then u, then U. */
+	for (si = 0; si < f->n_src; si++) {
+		s = f->src_node[si];
+		for (a = 0; a < f->n_arcs; a++) {
+			l = &m->links[a / 2];
+			head = a % 2 == 0 ? l->b : l->a;
+			f->fcol[si * f->n_arcs + a] =
+			    f->cap_row[a] >= 0 && head != s ? col++ : -1;
+		}
+	}
+	for (k = 0; k < m->n_demands; k++) {
+		d = &m->demands[k];
+		f->ucol[k] = d->rate_bps > 0 ? col++ : -1;
+		f->d_lp[k] = d->rate_bps > 0 ? d->rate_bps / f->scale : 0;
+		f->demand_lp += f->d_lp[k];
+	}
+	f->ucol_U = f->balance ? col++ : -1;
+
+	lp_add_rows(f->lp, n_rows);
+	lp_add_cols(f->lp, col);
+
+	cap_nnz = f->balance ? f->n_arcs : 0;
+	rows = xcalloc(3 * (size_t)col + cap_nnz, sizeof(*rows));
+	cols = xcalloc(3 * (size_t)col + cap_nnz, sizeof(*cols));
+	vals = xcalloc(3 * (size_t)col + cap_nnz, sizeof(*vals));
+	for (si = 0; si < f->n_src; si++) {
+		s = f->src_node[si];
+		for (a = 0; a < f->n_arcs; a++) {
+			if ((j = f->fcol[si * f->n_arcs + a]) < 0)
+				continue;
+			l = &m->links[a / 2];
+			tail = a % 2 == 0 ? l->a : l->b;
+			head = a % 2 == 0 ? l->b : l->a;
+			if (tail != s) {
+				rows[nnz] = cons_row(f, si, tail);
+				cols[nnz] = j;
+				vals[nnz++] = 1;
+			}
+			rows[nnz] = cons_row(f, si, head);
+			cols[nnz] = j;
+			vals[nnz++] = -1;
+			rows[nnz] = f->cap_row[a];
+			cols[nnz] = j;
+			vals[nnz++] = 1;
+			lp_set_col_bounds(f->lp, j, 0, INFINITY);
+		}
+	}
+	owed = xcalloc((size_t)n_cons, sizeof(*owed));
+	for (k = 0; k < m->n_demands; k++) {
+		if ((j = f->ucol[k]) < 0)
+			continue;
+		d = &m->demands[k];
+		si = (size_t)f->src_of[d->src];
+		rows[nnz] = cons_row(f, si, d->dst);
+		cols[nnz] = j;
+		vals[nnz++] = -1;
+		owed[cons_row(f, si, d->dst)] += f->d_lp[k];
+		lp_set_col_bounds(f->lp, j, 0, f->d_lp[k]);
+	}
+	for (j = 0; j < n_cons; j++)
+		lp_set_row_bounds(f->lp, j, -owed[j], -owed[j]);
+	free(owed);
+	for (a = 0; a < f->n_arcs; a++) {
+		if (f->cap_row[a] < 0)
+			continue;
+		c = m->links[a / 2].capacity_bps / f->scale;
+		if (f->balance) {
+			rows[nnz] = f->cap_row[a];
+			cols[nnz] = f->ucol_U;
+			vals[nnz++] = -c;
+			lp_set_row_bounds(f->lp, f->cap_row[a], -INFINITY, 0);
+		} else {
+			lp_set_row_bounds(f->lp, f->cap_row[a], -INFINITY,
+			    f->headroom * c);
+		}
+	}
+	if (f->balance)
+		lp_set_col_bounds(f->lp, f->ucol_U, 0, f->headroom);
+	lp_load_matrix(f->lp, nnz, rows, cols, vals);
+	free(rows);
+	free(cols);
+	free(vals);
+	lp_scale(f->lp);
+	log_debug("node-arc LP built rows=%d cols=%d nnz=%zu sources=%zu",
+	    lp_n_rows(f->lp), lp_n_cols(f->lp), nnz, f->n_src);
+}
+
+/* Names every row and column, for export (indices keep names short). */
+static void
+name_all(struct arcform *f)
+{
+	const struct model *m = f->m;
+	char buf[96];
+	size_t si, v, a, k;
+	int j;
+
+	if (f->named)
+		return;
+	for (si = 0; si < f->n_src; si++)
+		for (v = 0; v < f->n; v++) {
+			if (v == f->src_node[si])
+				continue;
+			snprintf(buf, sizeof(buf), "cons_%zu_%zu",
+			    f->src_node[si], v);
+			lp_set_row_name(f->lp, cons_row(f, si, v), buf);
+		}
+	for (a = 0; a < f->n_arcs; a++) {
+		if (f->cap_row[a] < 0)
+			continue;
+		snprintf(buf, sizeof(buf), "cap_%zu_%s", a / 2,
+		    a % 2 == 0 ? "ab" : "ba");
+		lp_set_row_name(f->lp, f->cap_row[a], buf);
+		for (si = 0; si < f->n_src; si++) {
+			if ((j = f->fcol[si * f->n_arcs + a]) < 0)
+				continue;
+			snprintf(buf, sizeof(buf), "f_%zu_%zu",
+			    f->src_node[si], a);
+			lp_set_col_name(f->lp, j, buf);
+		}
+	}
+	for (k = 0; k < m->n_demands; k++) {
+		if (f->ucol[k] < 0)
+			continue;
+		snprintf(buf, sizeof(buf), "u_%zu", k);
+		lp_set_col_name(f->lp, f->ucol[k], buf);
+	}
+	if (f->ucol_U >= 0)
+		lp_set_col_name(f->lp, f->ucol_U, "U");
+	f->named = true;
+}
+
+/* ---- stages ---- */
+
+/*
+ * Solves the LP as it stands as the next stage of the plan.  unit turns
+ * the LP objective into the stage's reported units.  last marks the final
+ * stage (the one export_stage -1 means).  Returns 0 with the LP objective
+ * in *objp, or an error with detail in e.
+ */
+static int
+stage(struct arcform *f, const char *name, enum lp_method method,
+    double unit, bool last, double *objp, struct err *e)
+{
+	struct plan_stage *st;
+	struct lp_params prm;
+	struct lp_result res;
+	int idx, r;
+
+	if (f->p->n_stages == PLAN_STAGES_MAX)
+		return err_set(e, ERR_INTERNAL, NULL, "too many stages");
+	idx = (int)f->p->n_stages;
+	if (f->o->export_path != NULL && !f->exported &&
+	    (f->o->export_stage == idx || (f->o->export_stage < 0 && last))) {
+		name_all(f);
+		if (lp_write(f->lp, f->o->export_path,
+		    f->o->export_format == EXPORT_MPS ? LP_FMT_MPS : LP_FMT_LP,
+		    f->o->verbose) != 0)
+			return err_set(e, ERR_IO, NULL,
+			    "cannot write the LP of stage %s to %s", name,
+			    f->o->export_path);
+		f->exported = true;
+	}
+	memset(&prm, 0, sizeof(prm));
+	prm.method = method;
+	prm.verbose = f->o->verbose;
+	if (f->o->time_limit_s > 0) {
+		prm.time_limit_s = f->o->time_limit_s -
+		    (now_ms() - f->t0) / 1e3;
+		if (prm.time_limit_s <= 0)
+			return err_set(e, ERR_TIMEOUT, NULL,
+			    "time limit of %g s passed before stage %s",
+			    f->o->time_limit_s, name);
+	}
+	r = lp_solve(f->lp, &prm, &res);
+	log_debug("stage done name=%s glpk_ret=%d status=%d iterations=%d "
+	    "ms=%.1f objective=%.12g", name, r, (int)res.status,
+	    res.iterations, res.ms, res.objective);
+	if (r == ERR_TIMEOUT)
+		return err_set(e, ERR_TIMEOUT, NULL,
+		    "time limit of %g s passed in stage %s",
+		    f->o->time_limit_s, name);
+	if (r != 0)
+		return err_set(e, ERR_SOLVER, NULL,
+		    "the simplex method failed in stage %s", name);
+	if (res.status != LP_OPTIMAL)
+		return err_set(e, ERR_SOLVER, NULL,
+		    "stage %s ended without an optimum (status %d)", name,
+		    (int)res.status);
+	st = &f->p->stages[f->p->n_stages++];
+	snprintf(st->name, sizeof(st->name), "%s", name);
+	st->objective = res.objective * unit;
+	st->iterations = res.iterations;
+	st->ms = res.ms;
+	*objp = res.objective;
+	return 0;
+}
+
+/* Pins each u column of class prio (all classes: -1) where it is now. */
+static void
+pin_unserved(struct arcform *f, int prio)
+{
+	const struct model *m = f->m;
+	size_t k;
+	double x;
+
+	for (k = 0; k < m->n_demands; k++) {
+		if (f->ucol[k] < 0 ||
+		    (prio >= 0 && m->demands[k].priority != prio))
+			continue;
+		x = fmin(fmax(lp_col_value(f->lp, f->ucol[k]), 0), f->d_lp[k]);
+		lp_set_col_bounds(f->lp, f->ucol[k], 0, x);
+	}
+}
+
+/*
+ * Records shadow prices after an admission stage that left traffic of a
+ * class unserved.  A more important class's price, set earlier, stays.
+ */
+static void
+take_prices(struct arcform *f)
+{
+	size_t a;
+	double y, act, lim, u = f->headroom, price;
+
+	if (f->ucol_U >= 0)
+		u = lp_col_value(f->lp, f->ucol_U);
+	for (a = 0; a < f->n_arcs; a++) {
+		if (f->cap_row[a] < 0 || f->price[a] != 0)
+			continue;
+		/*
+		 * Minimising unserved traffic, a binding "<=" row has a
+		 * non-positive dual: one more LP unit of usable capacity
+		 * lowers unserved traffic by -y units.  Capacity counts
+		 * times h (or U when balancing), and both sides are in the
+		 * same LP units, so the ratio holds in bit/s too.
+		 */
+		y = lp_row_dual(f->lp, f->cap_row[a]);
+		price = -y * u;
+		act = lp_row_value(f->lp, f->cap_row[a]);
+		lim = f->balance ? 0 : f->headroom *
+		    f->m->links[a / 2].capacity_bps / f->scale;
+		if (f->balance)
+			act -= u * f->m->links[a / 2].capacity_bps / f->scale;
+		if (price > PRICE_MIN && act >= lim - 1e-9) {
+			f->price[a] = price;
+			f->sat[a] = true;
+		}
+	}
+}
+
+/* Stage 1: serve as much as fits, by priority class. */
+static int
+admit(struct arcform *f, struct err *e)
+{
+	const struct model *m = f->m;
+	int prio, *rc, n_rc, row, r;
+	double z, *rv, class_lp[MODEL_PRIO_MAX + 1];
+	char name[32];
+	size_t k;
+
+	memset(class_lp, 0, sizeof(class_lp));
+	lp_clear_obj(f->lp);
+	for (k = 0; k < m->n_demands; k++)
+		if (f->ucol[k] >= 0) {
+			lp_set_obj(f->lp, f->ucol[k], 1);
+			class_lp[m->demands[k].priority] += f->d_lp[k];
+		}
+	if ((r = stage(f, "admit", LP_DUAL, f->scale, false, &z, e)) != 0)
+		return r;
+	if (z <= ZERO_REL * fmax(1, f->demand_lp)) {
+		pin_unserved(f, -1);
+		return 0;
+	}
+
+	rc = xcalloc(m->n_demands, sizeof(*rc));
+	rv = xcalloc(m->n_demands, sizeof(*rv));
+	for (prio = 0; prio <= MODEL_PRIO_MAX; prio++) {
+		if (class_lp[prio] == 0)
+			continue;
+		lp_clear_obj(f->lp);
+		n_rc = 0;
+		for (k = 0; k < m->n_demands; k++)
+			if (f->ucol[k] >= 0 && m->demands[k].priority == prio) {
+				lp_set_obj(f->lp, f->ucol[k], 1);
+				rc[n_rc] = f->ucol[k];
+				rv[n_rc++] = 1;
+			}
+		snprintf(name, sizeof(name), "admit-p%d", prio);
+		if ((r = stage(f, name, LP_PRIMAL, f->scale, false, &z,
+		    e)) != 0)
+			goto out;
+		if (z <= ZERO_REL * fmax(1, class_lp[prio])) {
+			pin_unserved(f, prio);
+			continue;
+		}
+		take_prices(f);
+		/* Later stages may not serve this class any worse. */
+		row = lp_add_row(f->lp, n_rc, rc, rv, -INFINITY,
+		    z * (1 + FIX_REL) + DUST);
+		snprintf(name, sizeof(name), "admit_p%d", prio);
+		lp_set_row_name(f->lp, row, name);
+	}
+	r = 0;
+out:
+	free(rc);
+	free(rv);
+	return r;
+}
+
+/* Stage 2 (balance only): minimise U, then cap it. */
+static int
+balance(struct arcform *f, struct err *e)
+{
+	double z, ub;
+	int r;
+
+	lp_clear_obj(f->lp);
+	lp_set_obj(f->lp, f->ucol_U, 1);
+	if ((r = stage(f, "balance", LP_PRIMAL, 1, false, &z, e)) != 0)
+		return r;
+	ub = fmin(f->headroom,
+	    z * (1 + f->m->policy.balance_tol) + U_ABS);
+	lp_set_col_bounds(f->lp, f->ucol_U, 0, fmax(ub, 0));
+	return 0;
+}
+
+/* Stage 3: minimise TE metric x flow. */
+static int
+cost(struct arcform *f, struct err *e)
+{
+	size_t si, a;
+	double z;
+	int j;
+
+	lp_clear_obj(f->lp);
+	for (si = 0; si < f->n_src; si++)
+		for (a = 0; a < f->n_arcs; a++)
+			if ((j = f->fcol[si * f->n_arcs + a]) >= 0)
+				lp_set_obj(f->lp, j,
+				    f->m->links[a / 2].te_metric /
+				    f->metric_max);
+	return stage(f, "cost", LP_PRIMAL, f->metric_max * f->scale, true,
+	    &z, e);
+}
+
+/* ---- from LP values to the plan ---- */
+
+/*
+ * Lists demand indices with a positive rate, sorted by source, then
+ * priority, then index (two stable counting sorts).  Returns the count;
+ * start[si] .. start[si + 1] delimit source si's demands.
+ */
+static size_t
+group_demands(const struct arcform *f, size_t *order, size_t *start)
+{
+	const struct model *m = f->m;
+	size_t by_prio[MODEL_PRIO_MAX + 2], *tmp, k, i, n = 0, si;
+
+	memset(by_prio, 0, sizeof(by_prio));
+	for (k = 0; k < m->n_demands; k++)
+		if (f->ucol[k] >= 0)
+			by_prio[m->demands[k].priority + 1]++;
+	for (i = 0; i <= MODEL_PRIO_MAX; i++)
+		by_prio[i + 1] += by_prio[i];
+	tmp = xcalloc(m->n_demands + 1, sizeof(*tmp));
+	for (k = 0; k < m->n_demands; k++)
+		if (f->ucol[k] >= 0) {
+			tmp[by_prio[m->demands[k].priority]++] = k;
+			n++;
+		}
+	memset(start, 0, (f->n_src + 1) * sizeof(*start));
+	for (i = 0; i < n; i++)
+		start[f->src_of[m->demands[tmp[i]].src] + 1]++;
+	for (si = 0; si < f->n_src; si++)
+		start[si + 1] += start[si];
+	for (i = 0; i < n; i++) {
+		si = (size_t)f->src_of[m->demands[tmp[i]].src];
+		order[start[si]++] = tmp[i];
+	}
+	for (si = f->n_src; si > 0; si--)
+		start[si] = start[si - 1];
+	start[0] = 0;
+	free(tmp);
+	return n;
+}
+
+/* Decomposes every source's flow into the plan's routes. */
+static void
+routes_from_lp(struct arcform *f)
+{
+	const struct model *m = f->m;
+	const struct link *l;
+	struct decomp *dc;
+	size_t *tail, *head, *order, *start, *dst, si, a, j, k, lo, hi;
+	double *flow, *want, x;
+	int c;
+
+	tail = xcalloc(f->n_arcs, sizeof(*tail));
+	head = xcalloc(f->n_arcs, sizeof(*head));
+	for (a = 0; a < f->n_arcs; a++) {
+		l = &m->links[a / 2];
+		tail[a] = a % 2 == 0 ? l->a : l->b;
+		head[a] = a % 2 == 0 ? l->b : l->a;
+	}
+	dc = decomp_new(f->n, f->n_arcs, tail, head);
+	order = xcalloc(m->n_demands + 1, sizeof(*order));
+	start = xcalloc(f->n_src + 1, sizeof(*start));
+	dst = xcalloc(m->n_demands + 1, sizeof(*dst));
+	want = xcalloc(m->n_demands + 1, sizeof(*want));
+	flow = xcalloc(f->n_arcs + 1, sizeof(*flow));
+	group_demands(f, order, start);
+	for (si = 0; si < f->n_src; si++) {
+		for (a = 0; a < f->n_arcs; a++) {
+			c = f->fcol[si * f->n_arcs + a];
+			flow[a] = c >= 0 ? lp_col_value(f->lp, c) : 0;
+		}
+		lo = start[si];
+		hi = start[si + 1];
+		for (j = lo; j < hi; j++) {
+			k = order[j];
+			dst[j] = m->demands[k].dst;
+			x = f->d_lp[k] - lp_col_value(f->lp, f->ucol[k]);
+			want[j] = fmin(fmax(x, 0), f->d_lp[k]);
+		}
+		if (getenv("VIOL")) {
+			double *net = xcalloc(f->n, sizeof(double)), mx = 0, mn = 0;
+			for (a = 0; a < f->n_arcs; a++) { net[tail[a]] += flow[a]; net[head[a]] -= flow[a]; if (flow[a] < mn) mn = flow[a]; }
+			for (j = lo; j < hi; j++) net[dst[j]] += want[j];
+			for (a = 0; a < f->n; a++) if (a != f->src_node[si] && fabs(net[a]) > mx) mx = fabs(net[a]);
+			fprintf(stderr, "src %zu maxviol %g minflow %g\n", si, mx, mn);
+			free(net);
+		}
+		decomp_source(dc, f->src_node[si], flow, DUST, hi - lo,
+		    order + lo, dst + lo, want + lo, f->scale, f->p->routes);
+	}
+	decomp_free(dc);
+	free(tail);
+	free(head);
+	free(order);
+	free(start);
+	free(dst);
+	free(want);
+	free(flow);
+}
+
+/*
+ * Fills loads, utilisation, totals and status from the routes.  price
+ * and sat (per arc, may be NULL) come from admission.
+ */
+static void
+finish(const struct model *m, struct plan *p, bool empty,
+    const double *price, const bool *sat)
+{
+	const struct link *l;
+	struct plan_route *rt;
+	struct plan_arc *pa;
+	size_t k, i, t, a;
+	double h = m->policy.headroom;
+
+	for (k = 0; k < m->n_demands; k++) {
+		rt = &p->routes[k];
+		for (i = 0; i < rt->n_paths; i++)
+			for (t = 0; t < rt->paths[i].n_arcs; t++)
+				p->arcs[rt->paths[i].arcs[t]].load_bps +=
+				    rt->paths[i].rate_bps;
+		rt->unserved_bps = fmax(0,
+		    m->demands[k].rate_bps - rt->carried_bps);
+		p->demand_bps += m->demands[k].rate_bps;
+		p->carried_bps += rt->carried_bps;
+		p->unserved_bps += rt->unserved_bps;
+		p->unserved_by_prio_bps[m->demands[k].priority] +=
+		    rt->unserved_bps;
+	}
+	if (empty)
+		p->status = PLAN_EMPTY;
+	else if (p->unserved_bps <= SERVED_REL * p->demand_bps)
+		p->status = PLAN_OPTIMAL;
+	else
+		p->status = PLAN_PARTIAL;
+	for (a = 0; a < p->n_arcs; a++) {
+		l = &m->links[a / 2];
+		pa = &p->arcs[a];
+		pa->capacity_bps = l->up ? l->capacity_bps : 0;
+		pa->util = l->up ? pa->load_bps / l->capacity_bps : 0;
+		pa->headroom_bps = pa->capacity_bps * h - pa->load_bps;
+		if (l->up)
+			p->max_util = fmax(p->max_util, pa->util);
+		p->total_cost += l->te_metric * pa->load_bps;
+		/* Prices only explain traffic that was left unserved. */
+		if (p->status == PLAN_PARTIAL && price != NULL) {
+			pa->shadow_price = price[a];
+			pa->saturated = sat[a];
+		}
+	}
+	for (i = 0; i < m->n_links; i++)
+		if (p->arcs[2 * i].saturated || p->arcs[2 * i + 1].saturated)
+			p->n_saturated++;
+	p->saturated_links = xcalloc(p->n_saturated,
+	    sizeof(*p->saturated_links));
+	p->n_saturated = 0;
+	for (i = 0; i < m->n_links; i++)
+		if (p->arcs[2 * i].saturated || p->arcs[2 * i + 1].saturated)
+			p->saturated_links[p->n_saturated++] = i;
+}
+
+/* ---- entry points ---- */
+
+int
+form_arc_solve(const struct model *m, const struct solve_opts *o,
+    struct plan **planp, struct err *e)
+{
+	struct arcform f;
+	struct plan *p;
+	int r = ERR_INTERNAL;
+
+	*planp = NULL;
+	memset(&f, 0, sizeof(f));
+	f.m = m;
+	f.o = o;
+	f.t0 = now_ms();
+	p = xcalloc(1, sizeof(*p));
+	p->objective = m->policy.objective;
+	p->model_revision = m->revision;
+	p->n_routes = m->n_demands;
+	p->routes = xcalloc(m->n_demands, sizeof(*p->routes));
+	p->n_arcs = 2 * m->n_links;
+	p->arcs = xcalloc(p->n_arcs, sizeof(*p->arcs));
+	f.p = p;
+
+	if ((r = setup(&f, e)) != 0)
+		goto out;
+	p->scale_bps = f.scale;
+	if (f.n_src == 0) {
+		if (o->export_path != NULL) {
+			r = err_set(e, ERR_INVALID, "export_stage",
+			    "no LP to export: no demand has a positive rate");
+			goto out;
+		}
+		finish(m, p, true, NULL, NULL);
+	} else {
+		f.lp = lp_new("weft");
+		build(&f);
+		f.price = xcalloc(f.n_arcs, sizeof(*f.price));
+		f.sat = xcalloc(f.n_arcs, sizeof(*f.sat));
+		if ((r = admit(&f, e)) != 0)
+			goto out;
+		if (f.balance && (r = balance(&f, e)) != 0)
+			goto out;
+		if ((r = cost(&f, e)) != 0)
+			goto out;
+		if (o->export_path != NULL && !f.exported) {
+			r = err_set(e, ERR_INVALID, "export_stage",
+			    "stage %d was not solved; this model took %zu "
+			    "stages", o->export_stage, p->n_stages);
+			goto out;
+		}
+		routes_from_lp(&f);
+		finish(m, p, false, f.price, f.sat);
+	}
+	p->solve_ms = now_ms() - f.t0;
+	*planp = p;
+	p = NULL;
+	r = 0;
+out:
+	plan_free(p);
+	lp_free(f.lp);
+	free(f.src_node);
+	free(f.src_of);
+	free(f.cap_row);
+	free(f.fcol);
+	free(f.ucol);
+	free(f.d_lp);
+	free(f.price);
+	free(f.sat);
+	return r;
+}
+
+void
+solve_opts_default(struct solve_opts *o)
+{
+	memset(o, 0, sizeof(*o));
+	o->time_limit_s = 0;
+	o->verbose = false;
+	o->export_path = NULL;
+	o->export_stage = -1;
+	o->export_format = EXPORT_LP;
+}
+
+int
+engine_solve(const struct model *m, const struct solve_opts *o,
+    struct plan **planp, struct err *e)
+{
+	struct solve_opts def;
+	int r;
+
+	*planp = NULL;
+	if (o == NULL) {
+		solve_opts_default(&def);
+		o = &def;
+	}
+	if ((r = engine_check(m, e)) != 0)
+		return r;
+	return form_arc_solve(m, o, planp, e);
+}

@@ -1,0 +1,398 @@
+/* SPDX-License-Identifier: GPL-3.0-or-later */
+/* The GLPK wrapper: problem building, simplex, read-out, export. */
+
+/*
+ * DESIGN
+ * The only file that includes glpk.h.  Index translation (ours from 0,
+ * GLPK's from 1) and argument checks happen here, because an invalid
+ * GLPK call aborts the process.  GLPK's terminal output arrives in pieces
+ * through glp_term_hook(); a per-thread buffer joins the pieces into
+ * lines, which go to the log at debug level when the running call asked
+ * for verbose output and are dropped otherwise.  Presolving is off, so
+ * every solve starts from the basis the previous one left: that is what
+ * makes the staged objectives of a formulation cheap.
+ */
+
+#include <assert.h>
+#include <math.h>
+#include <stdint.h>
+#include <stdlib.h>
+#include <string.h>
+#include <time.h>
+
+#include <glpk.h>
+
+#include "lp.h"
+#include "../base/err.h"
+#include "../base/log.h"
+#include "../base/xalloc.h"
+
+struct lp {
+	glp_prob *P;		/* owned */
+};
+
+/* ---- terminal output ---- */
+
+static _Thread_local bool term_verbose;
+static _Thread_local char term_line[512];
+static _Thread_local size_t term_len;
+
+static void
+term_flush(void)
+{
+	if (term_len > 0 && term_verbose)
+		log_debug("glpk: %.*s", (int)term_len, term_line);
+	term_len = 0;
+}
+
+/* Returns non-zero: GLPK must not print anything itself. */
+static int
+term_hook(void *info, const char *s)
+{
+	(void)info;
+	for (; *s != '\0'; s++) {
+		if (*s == '\n') {
+			term_flush();
+			continue;
+		}
+		if (term_len == sizeof(term_line) - 1)
+			term_flush();
+		term_line[term_len++] = *s;
+	}
+	return 1;
+}
+
+static void
+term_begin(bool verbose)
+{
+	glp_term_hook(term_hook, NULL);
+	term_verbose = verbose;
+	term_len = 0;
+}
+
+static void
+term_end(void)
+{
+	term_flush();
+	term_verbose = false;
+}
+
+void
+lp_thread_done(void)
+{
+	glp_free_env();
+}
+
+/* ---- building ---- */
+
+struct lp *
+lp_new(const char *name)
+{
+	struct lp *lp = xcalloc(1, sizeof(*lp));
+
+	/* Before any other call, so nothing reaches the terminal. */
+	term_begin(false);
+	lp->P = glp_create_prob();
+	if (name != NULL)
+		glp_set_prob_name(lp->P, name);
+	glp_set_obj_dir(lp->P, GLP_MIN);
+	return lp;
+}
+
+void
+lp_free(struct lp *lp)
+{
+	if (lp == NULL)
+		return;
+	glp_delete_prob(lp->P);
+	free(lp);
+}
+
+int
+lp_add_rows(struct lp *lp, int n)
+{
+	assert(n >= 1);
+	return glp_add_rows(lp->P, n) - 1;
+}
+
+int
+lp_add_cols(struct lp *lp, int n)
+{
+	assert(n >= 1);
+	return glp_add_cols(lp->P, n) - 1;
+}
+
+int
+lp_n_rows(const struct lp *lp)
+{
+	return glp_get_num_rows(lp->P);
+}
+
+int
+lp_n_cols(const struct lp *lp)
+{
+	return glp_get_num_cols(lp->P);
+}
+
+/* Maps (lo, hi) to GLPK's bound type. */
+static int
+bound_type(double lo, double hi)
+{
+	assert(!isnan(lo) && !isnan(hi) && lo <= hi);
+	assert(lo < INFINITY && hi > -INFINITY);
+	if (lo == -INFINITY && hi == INFINITY)
+		return GLP_FR;
+	if (hi == INFINITY)
+		return GLP_LO;
+	if (lo == -INFINITY)
+		return GLP_UP;
+	return lo == hi ? GLP_FX : GLP_DB;
+}
+
+void
+lp_set_row_bounds(struct lp *lp, int i, double lo, double hi)
+{
+	int t = bound_type(lo, hi);
+
+	assert(i >= 0 && i < glp_get_num_rows(lp->P));
+	glp_set_row_bnds(lp->P, i + 1, t, isfinite(lo) ? lo : 0,
+	    isfinite(hi) ? hi : 0);
+}
+
+void
+lp_set_col_bounds(struct lp *lp, int j, double lo, double hi)
+{
+	int t = bound_type(lo, hi);
+
+	assert(j >= 0 && j < glp_get_num_cols(lp->P));
+	glp_set_col_bnds(lp->P, j + 1, t, isfinite(lo) ? lo : 0,
+	    isfinite(hi) ? hi : 0);
+}
+
+void
+lp_set_row_name(struct lp *lp, int i, const char *name)
+{
+	assert(i >= 0 && i < glp_get_num_rows(lp->P));
+	assert(name != NULL && name[0] != '\0' && strlen(name) <= 255);
+	glp_set_row_name(lp->P, i + 1, name);
+}
+
+void
+lp_set_col_name(struct lp *lp, int j, const char *name)
+{
+	assert(j >= 0 && j < glp_get_num_cols(lp->P));
+	assert(name != NULL && name[0] != '\0' && strlen(name) <= 255);
+	glp_set_col_name(lp->P, j + 1, name);
+}
+
+void
+lp_set_obj(struct lp *lp, int j, double c)
+{
+	assert(j >= 0 && j < glp_get_num_cols(lp->P));
+	assert(isfinite(c));
+	glp_set_obj_coef(lp->P, j + 1, c);
+}
+
+void
+lp_clear_obj(struct lp *lp)
+{
+	int j, n = glp_get_num_cols(lp->P);
+
+	for (j = 1; j <= n; j++)
+		glp_set_obj_coef(lp->P, j, 0.0);
+}
+
+void
+lp_load_matrix(struct lp *lp, size_t n, const int *rows, const int *cols,
+    const double *vals)
+{
+	int m = glp_get_num_rows(lp->P), nc = glp_get_num_cols(lp->P);
+	int *ia, *ja;
+	double *ar;
+	size_t t;
+
+	assert(n < (size_t)INT32_MAX);
+	ia = xreallocarray(NULL, n + 1, sizeof(*ia));
+	ja = xreallocarray(NULL, n + 1, sizeof(*ja));
+	ar = xreallocarray(NULL, n + 1, sizeof(*ar));
+	for (t = 0; t < n; t++) {
+		assert(rows[t] >= 0 && rows[t] < m);
+		assert(cols[t] >= 0 && cols[t] < nc);
+		assert(isfinite(vals[t]));
+		ia[t + 1] = rows[t] + 1;
+		ja[t + 1] = cols[t] + 1;
+		ar[t + 1] = vals[t];
+	}
+	/* GLPK itself rejects (by aborting) duplicate pairs: ours asserts. */
+	assert(glp_check_dup(m, nc, (int)n, ia, ja) == 0);
+	glp_load_matrix(lp->P, (int)n, ia, ja, ar);
+	free(ia);
+	free(ja);
+	free(ar);
+}
+
+int
+lp_add_row(struct lp *lp, int n, const int *cols, const double *vals,
+    double lo, double hi)
+{
+	int nc = glp_get_num_cols(lp->P);
+	int *ja, i, t;
+	double *ar;
+
+	assert(n >= 0);
+	ja = xreallocarray(NULL, (size_t)n + 1, sizeof(*ja));
+	ar = xreallocarray(NULL, (size_t)n + 1, sizeof(*ar));
+	for (t = 0; t < n; t++) {
+		assert(cols[t] >= 0 && cols[t] < nc);
+		assert(isfinite(vals[t]));
+		ja[t + 1] = cols[t] + 1;
+		ar[t + 1] = vals[t];
+	}
+	i = glp_add_rows(lp->P, 1);
+	glp_set_mat_row(lp->P, i, n, ja, ar);
+	free(ja);
+	free(ar);
+	/* A new row's auxiliary variable is basic: the basis stays valid. */
+	lp_set_row_bounds(lp, i - 1, lo, hi);
+	return i - 1;
+}
+
+void
+lp_scale(struct lp *lp)
+{
+	glp_scale_prob(lp->P, GLP_SF_AUTO);
+}
+
+/* ---- solving ---- */
+
+static double
+now_ms(void)
+{
+	struct timespec ts;
+
+	clock_gettime(CLOCK_MONOTONIC, &ts);
+	return (double)ts.tv_sec * 1e3 + (double)ts.tv_nsec / 1e6;
+}
+
+static enum lp_status
+status_of(int s)
+{
+	switch (s) {
+	case GLP_OPT:
+		return LP_OPTIMAL;
+	case GLP_FEAS:
+		return LP_FEASIBLE;
+	case GLP_NOFEAS:
+		return LP_INFEASIBLE;
+	case GLP_UNBND:
+		return LP_UNBOUNDED;
+	default:
+		return LP_UNDEFINED;
+	}
+}
+
+/* One glp_simplex call with the given method; returns GLPK's code. */
+static int
+simplex(struct lp *lp, int meth, const struct lp_params *p, double t0)
+{
+	glp_smcp parm;
+	double left;
+
+	glp_init_smcp(&parm);
+	parm.msg_lev = p->verbose ? GLP_MSG_ON : GLP_MSG_ERR;
+	parm.meth = meth;
+	parm.presolve = GLP_OFF;
+	parm.out_frq = 5000;
+	if (p->time_limit_s > 0) {
+		left = p->time_limit_s * 1e3 - (now_ms() - t0);
+		if (left < 1)
+			return GLP_ETMLIM;
+		parm.tm_lim = left > INT32_MAX ? INT32_MAX : (int)left;
+	}
+	return glp_simplex(lp->P, &parm);
+}
+
+int
+lp_solve(struct lp *lp, const struct lp_params *p, struct lp_result *res)
+{
+	double t0 = now_ms();
+	int it0, ret, r = ERR_INTERNAL;
+
+	memset(res, 0, sizeof(*res));
+	res->status = LP_UNDEFINED;
+	term_begin(p->verbose);
+	it0 = glp_get_it_cnt(lp->P);
+	ret = simplex(lp, p->method == LP_DUAL ? GLP_DUALP : GLP_PRIMAL, p,
+	    t0);
+	if (ret == GLP_EBADB || ret == GLP_ESING || ret == GLP_ECOND ||
+	    ret == GLP_EFAIL) {
+		/*
+		 * The warm basis went bad (singular or ill-conditioned after
+		 * bounds moved): start once more from an advanced basis.
+		 */
+		log_debug("lp retry from a fresh basis glpk_code=%d", ret);
+		glp_adv_basis(lp->P, 0);
+		ret = simplex(lp, GLP_PRIMAL, p, t0);
+	}
+	res->status = status_of(glp_get_status(lp->P));
+	res->iterations = glp_get_it_cnt(lp->P) - it0;
+	res->objective = glp_get_obj_val(lp->P);
+	res->ms = now_ms() - t0;
+	switch (ret) {
+	case 0:
+		r = 0;
+		break;
+	case GLP_ETMLIM:
+		r = ERR_TIMEOUT;
+		break;
+	default:
+		log_debug("lp failed glpk_code=%d", ret);
+		r = ERR_SOLVER;
+		break;
+	}
+	term_end();
+	return r;
+}
+
+double
+lp_col_value(const struct lp *lp, int j)
+{
+	assert(j >= 0 && j < glp_get_num_cols(lp->P));
+	return glp_get_col_prim(lp->P, j + 1);
+}
+
+double
+lp_row_value(const struct lp *lp, int i)
+{
+	assert(i >= 0 && i < glp_get_num_rows(lp->P));
+	return glp_get_row_prim(lp->P, i + 1);
+}
+
+double
+lp_row_dual(const struct lp *lp, int i)
+{
+	assert(i >= 0 && i < glp_get_num_rows(lp->P));
+	return glp_get_row_dual(lp->P, i + 1);
+}
+
+double
+lp_obj_value(const struct lp *lp)
+{
+	return glp_get_obj_val(lp->P);
+}
+
+/* ---- export ---- */
+
+int
+lp_write(struct lp *lp, const char *path, enum lp_format fmt, bool verbose)
+{
+	int ret;
+
+	term_begin(verbose);
+	if (fmt == LP_FMT_MPS)
+		ret = glp_write_mps(lp->P, GLP_MPS_FILE, NULL, path);
+	else
+		ret = glp_write_lp(lp->P, NULL, path);
+	term_end();
+	return ret == 0 ? 0 : ERR_IO;
+}

@@ -1,0 +1,403 @@
+/* SPDX-License-Identifier: GPL-3.0-or-later */
+/* The service: committed writes, plan publication, reads for the API. */
+
+/*
+ * DESIGN
+ * HTTP threads call in here.  Writes and table reads go through one
+ * SQLite connection under db_mu (WAL lets the solver thread read its own
+ * snapshot meanwhile); a write wakes the solver only after it commits.
+ * The solver thread calls publish(), which renders the plan's JSON once,
+ * records the summary in the plan history and swaps the published pointer
+ * under pub_mu.  Readers take a reference under pub_mu and release it
+ * whenever they are done; the last reference frees the plan.  A failed
+ * solve leaves the last good plan published and records the error.
+ */
+
+#include <sys/stat.h>
+
+#include <errno.h>
+#include <pthread.h>
+#include <stdio.h>
+#include <stdlib.h>
+#include <string.h>
+#include <unistd.h>
+
+#include "service.h"
+#include "solver_thread.h"
+#include "base/err.h"
+#include "base/log.h"
+#include "base/xalloc.h"
+#include "../api/codec_plan.h"
+
+struct service {
+	struct service_conf conf;
+	pthread_mutex_t db_mu;
+	struct db *db;			/* owned, under db_mu */
+	pthread_mutex_t pub_mu;
+	struct published *cur;		/* owned reference, under pub_mu */
+	int64_t next_plan_revision;	/* solver thread only */
+	struct service_status st;	/* failure fields under pub_mu */
+	struct solver *solver;		/* owned */
+};
+
+static void
+published_free(struct published *p)
+{
+	model_free(p->model);
+	plan_free(p->plan);
+	free(p->summary_json);
+	free(p->routes_json);
+	free(p->loads_json);
+	free(p);
+}
+
+void
+service_plan_unref(struct published *p)
+{
+	if (p != NULL && atomic_fetch_sub(&p->refs, 1) == 1)
+		published_free(p);
+}
+
+struct published *
+service_plan_ref(struct service *svc)
+{
+	struct published *p;
+
+	pthread_mutex_lock(&svc->pub_mu);
+	if ((p = svc->cur) != NULL)
+		atomic_fetch_add(&p->refs, 1);
+	pthread_mutex_unlock(&svc->pub_mu);
+	return p;
+}
+
+/* Runs on the solver thread; takes ownership of m and p. */
+static void
+publish(void *ctx, struct model *m, struct plan *p, const struct err *e)
+{
+	struct service *svc = ctx;
+	struct published *pub, *old;
+	struct err re = { 0 };
+
+	if (p == NULL) {
+		pthread_mutex_lock(&svc->pub_mu);
+		svc->st.last_solve_failed = true;
+		svc->st.failed_model_revision = m != NULL ? m->revision : -1;
+		snprintf(svc->st.last_error, sizeof(svc->st.last_error), "%s",
+		    e != NULL ? e->msg : "solve failed");
+		pthread_mutex_unlock(&svc->pub_mu);
+		model_free(m);
+		return;
+	}
+	pub = xcalloc(1, sizeof(*pub));
+	atomic_init(&pub->refs, 1);
+	pub->revision = svc->next_plan_revision++;
+	pub->model_revision = m->revision;
+	p->revision = pub->revision;
+	p->model_revision = m->revision;
+	pub->model = m;
+	pub->plan = p;
+	if (codec_plan_render(m, p, pub->revision, &pub->summary_json,
+	    &pub->summary_len, &pub->routes_json, &pub->routes_len,
+	    &pub->loads_json, &pub->loads_len) != 0) {
+		/* Our own bug: keep serving the last good plan. */
+		log_err("plan rendering failed model_revision=%lld",
+		    (long long)m->revision);
+		svc->next_plan_revision--;
+		published_free(pub);
+		err_set(&re, ERR_INTERNAL, NULL, "plan rendering failed");
+		publish(ctx, NULL, NULL, &re);
+		return;
+	}
+
+	pthread_mutex_lock(&svc->db_mu);
+	if (db_record_plan(svc->db, pub->revision, pub->model_revision,
+	    pub->summary_json, (int)svc->conf.plan_history_keep, &re) != 0)
+		log_warn("plan history not recorded revision=%lld msg=\"%s\"",
+		    (long long)pub->revision, re.msg);
+	pthread_mutex_unlock(&svc->db_mu);
+
+	pthread_mutex_lock(&svc->pub_mu);
+	old = svc->cur;
+	svc->cur = pub;
+	svc->st.last_solve_failed = false;
+	svc->st.last_error[0] = '\0';
+	pthread_mutex_unlock(&svc->pub_mu);
+	service_plan_unref(old);
+	log_info("plan published revision=%lld model_revision=%lld status=%s "
+	    "max_util=%.6f carried_bps=%.6g unserved_bps=%.6g solve_ms=%.1f",
+	    (long long)pub->revision, (long long)pub->model_revision,
+	    plan_status_str(p->status), p->max_util, p->carried_bps,
+	    p->unserved_bps, p->solve_ms);
+}
+
+int
+service_start(const struct service_conf *c, struct service **svcp,
+    struct err *e)
+{
+	struct solver_conf sc;
+	struct service *svc;
+	int64_t last = 0;
+	int r;
+
+	*svcp = NULL;
+	svc = xcalloc(1, sizeof(*svc));
+	svc->conf = *c;
+	pthread_mutex_init(&svc->db_mu, NULL);
+	pthread_mutex_init(&svc->pub_mu, NULL);
+	if ((r = db_open(c->db_path, &svc->db, e)) != 0)
+		goto fail;
+	if ((r = db_last_plan_revision(svc->db, &last, e)) != 0)
+		goto fail;
+	svc->next_plan_revision = last + 1;
+	sc.db_path = c->db_path;
+	sc.debounce_ms = c->debounce_ms;
+	sc.time_limit_s = c->solve_time_limit_s;
+	if ((r = solver_start(&sc, publish, svc, &svc->solver, e)) != 0)
+		goto fail;
+	*svcp = svc;
+	return 0;
+fail:
+	db_close(svc->db);
+	pthread_mutex_destroy(&svc->db_mu);
+	pthread_mutex_destroy(&svc->pub_mu);
+	free(svc);
+	return r;
+}
+
+void
+service_stop(struct service *svc)
+{
+	if (svc == NULL)
+		return;
+	solver_stop(svc->solver);
+	service_plan_unref(svc->cur);
+	db_close(svc->db);
+	pthread_mutex_destroy(&svc->db_mu);
+	pthread_mutex_destroy(&svc->pub_mu);
+	free(svc);
+}
+
+/* ---- writes: commit, then wake the solver ---- */
+
+static int
+wrote(struct service *svc, int r)
+{
+	if (r == 0)
+		solver_notify(svc->solver);
+	return r;
+}
+
+int
+service_put_topology(struct service *svc, const struct model *topo,
+    int64_t *revp, struct err *e)
+{
+	int r;
+
+	pthread_mutex_lock(&svc->db_mu);
+	r = db_put_topology(svc->db, topo, revp, e);
+	pthread_mutex_unlock(&svc->db_mu);
+	return wrote(svc, r);
+}
+
+int
+service_put_matrix(struct service *svc, const char *name,
+    const struct matrix *mx, int64_t *revp, struct err *e)
+{
+	int r;
+
+	pthread_mutex_lock(&svc->db_mu);
+	r = db_put_matrix(svc->db, name, mx, revp, e);
+	pthread_mutex_unlock(&svc->db_mu);
+	return wrote(svc, r);
+}
+
+int
+service_delete_matrix(struct service *svc, const char *name, int64_t *revp,
+    struct err *e)
+{
+	int r;
+
+	pthread_mutex_lock(&svc->db_mu);
+	r = db_delete_matrix(svc->db, name, revp, e);
+	pthread_mutex_unlock(&svc->db_mu);
+	return wrote(svc, r);
+}
+
+int
+service_put_policy(struct service *svc, const struct policy *p,
+    int64_t *revp, struct err *e)
+{
+	int r;
+
+	pthread_mutex_lock(&svc->db_mu);
+	r = db_put_policy(svc->db, p, revp, e);
+	pthread_mutex_unlock(&svc->db_mu);
+	return wrote(svc, r);
+}
+
+int
+service_patch_link(struct service *svc, const char *id,
+    const struct link_patch *lp, int64_t *revp, struct err *e)
+{
+	int r;
+
+	pthread_mutex_lock(&svc->db_mu);
+	r = db_patch_link(svc->db, id, lp, revp, e);
+	pthread_mutex_unlock(&svc->db_mu);
+	return wrote(svc, r);
+}
+
+int
+service_put_network(struct service *svc, const struct model *net,
+    const char *matrix, int64_t *revp, struct err *e)
+{
+	int r;
+
+	pthread_mutex_lock(&svc->db_mu);
+	r = db_put_network(svc->db, net, matrix, revp, e);
+	pthread_mutex_unlock(&svc->db_mu);
+	return wrote(svc, r);
+}
+
+/* ---- reads ---- */
+
+int
+service_get_topology(struct service *svc, struct model **mp, struct err *e)
+{
+	int r;
+
+	pthread_mutex_lock(&svc->db_mu);
+	r = db_load_topology(svc->db, mp, e);
+	pthread_mutex_unlock(&svc->db_mu);
+	return r;
+}
+
+int
+service_get_matrix(struct service *svc, const char *name,
+    struct matrix **mxp, struct err *e)
+{
+	int r;
+
+	pthread_mutex_lock(&svc->db_mu);
+	r = db_load_matrix(svc->db, name, mxp, e);
+	pthread_mutex_unlock(&svc->db_mu);
+	return r;
+}
+
+int
+service_list_matrices(struct service *svc, struct db_name **namesp,
+    size_t *np, struct err *e)
+{
+	int r;
+
+	pthread_mutex_lock(&svc->db_mu);
+	r = db_list_matrices(svc->db, namesp, np, e);
+	pthread_mutex_unlock(&svc->db_mu);
+	return r;
+}
+
+int
+service_revision(struct service *svc, int64_t *revp, struct err *e)
+{
+	int r;
+
+	pthread_mutex_lock(&svc->db_mu);
+	r = db_revision(svc->db, revp, e);
+	pthread_mutex_unlock(&svc->db_mu);
+	return r;
+}
+
+int
+service_status(struct service *svc, struct service_status *st,
+    struct err *e)
+{
+	struct published *p;
+	int r;
+
+	memset(st, 0, sizeof(*st));
+	if ((r = service_revision(svc, &st->model_revision, e)) != 0)
+		return r;
+	pthread_mutex_lock(&svc->pub_mu);
+	st->last_solve_failed = svc->st.last_solve_failed;
+	st->failed_model_revision = svc->st.failed_model_revision;
+	memcpy(st->last_error, svc->st.last_error, sizeof(st->last_error));
+	pthread_mutex_unlock(&svc->pub_mu);
+	if ((p = service_plan_ref(svc)) != NULL) {
+		st->plan_revision = p->revision;
+		st->plan_model_revision = p->model_revision;
+		service_plan_unref(p);
+	}
+	return 0;
+}
+
+/* ---- export ---- */
+
+static int
+read_file(const char *path, char **textp, size_t *lenp, struct err *e)
+{
+	struct stat sb;
+	char *buf = NULL;
+	FILE *f;
+	int r = ERR_IO;
+
+	if ((f = fopen(path, "rb")) == NULL)
+		return err_set(e, ERR_IO, NULL, "cannot open export: %s",
+		    strerror(errno));
+	if (fstat(fileno(f), &sb) != 0 || sb.st_size < 0)
+		goto out;
+	buf = xmalloc((size_t)sb.st_size + 1);
+	if (fread(buf, 1, (size_t)sb.st_size, f) != (size_t)sb.st_size)
+		goto out;
+	buf[sb.st_size] = '\0';
+	*textp = buf;
+	*lenp = (size_t)sb.st_size;
+	buf = NULL;
+	r = 0;
+out:
+	if (r != 0)
+		err_set(e, r, NULL, "cannot read export");
+	free(buf);
+	fclose(f);
+	return r;
+}
+
+int
+service_export_model(struct service *svc, enum export_format format,
+    int stage, char **textp, size_t *lenp, struct err *e)
+{
+	struct published *pub;
+	struct solve_opts o;
+	struct plan *p = NULL;
+	const char *tmpdir;
+	char path[4096];
+	int fd, r = ERR_INTERNAL;
+
+	*textp = NULL;
+	*lenp = 0;
+	if ((pub = service_plan_ref(svc)) == NULL)
+		return err_set(e, ERR_NOTFOUND, NULL, "no plan published yet");
+	if ((tmpdir = getenv("TMPDIR")) == NULL || *tmpdir == '\0')
+		tmpdir = "/tmp";
+	snprintf(path, sizeof(path), "%s/weft-export-XXXXXX", tmpdir);
+	if ((fd = mkstemp(path)) < 0) {
+		r = err_set(e, ERR_IO, NULL, "cannot create a temporary file: %s",
+		    strerror(errno));
+		goto out_noun;
+	}
+	close(fd);
+	solve_opts_default(&o);
+	o.time_limit_s = svc->conf.solve_time_limit_s;
+	o.export_path = path;
+	o.export_stage = stage;
+	o.export_format = format;
+	/* Re-solving the published snapshot reproduces the stages' LPs. */
+	if ((r = engine_solve(pub->model, &o, &p, e)) != 0)
+		goto out;
+	r = read_file(path, textp, lenp, e);
+out:
+	unlink(path);
+out_noun:
+	plan_free(p);
+	service_plan_unref(pub);
+	return r;
+}

@@ -1,0 +1,114 @@
+/* SPDX-License-Identifier: GPL-3.0-or-later */
+/* What the HTTP layer may ask of the daemon: writes, reads, the live plan. */
+#ifndef WEFT_DAEMON_SERVICE_H
+#define WEFT_DAEMON_SERVICE_H
+
+/*
+ * DESIGN
+ * The service owns the API's database connection (behind a mutex), the
+ * solver thread and the published plan.  Writes commit to SQLite, then wake
+ * the solver thread, and return the model revision they created: a write
+ * is acknowledged only after its transaction commits.  Reads of the plan
+ * never wait for a solve: service_plan_ref() hands out the newest published
+ * plan under a reference count.  Every function here may be called from any
+ * HTTP thread.
+ */
+
+#include <stdatomic.h>
+#include <stdbool.h>
+#include <stddef.h>
+#include <stdint.h>
+
+#include "engine/engine.h"
+#include "../storage/db.h"
+
+struct err;
+struct service;
+
+/*
+ * A published plan: immutable once published.  The JSON texts are
+ * pre-rendered when published so readers only copy bytes.
+ */
+struct published {
+	atomic_int refs;
+	int64_t revision;	/* plan revision (ETag) */
+	int64_t model_revision;	/* model revision the plan reflects */
+	struct model *model;	/* owned: the snapshot solved */
+	struct plan *plan;	/* owned; NULL when the solve failed */
+	char *summary_json;	/* owned, NUL-terminated */
+	size_t summary_len;
+	char *routes_json;	/* owned */
+	size_t routes_len;
+	char *loads_json;	/* owned */
+	size_t loads_len;
+};
+
+/* Service settings, from the config. */
+struct service_conf {
+	const char *db_path;	/* borrowed for the service's lifetime */
+	int debounce_ms;	/* quiet time before a re-solve */
+	double solve_time_limit_s;
+	int plan_history_keep;	/* plan summaries kept in SQLite */
+};
+
+/*
+ * Opens the database, starts the solver thread and queues a first solve.
+ * Returns 0 or ERR_DB / ERR_IO / ERR_INTERNAL.  Called once, by main.
+ */
+int service_start(const struct service_conf *c, struct service **svcp,
+    struct err *e);
+
+/* Stops the solver thread (finishing nothing new), frees everything. */
+void service_stop(struct service *svc);
+
+/* Writes: each returns 0 with the new model revision in *revp. */
+int service_put_topology(struct service *svc, const struct model *topo,
+    int64_t *revp, struct err *e);
+int service_put_matrix(struct service *svc, const char *name,
+    const struct matrix *mx, int64_t *revp, struct err *e);
+int service_delete_matrix(struct service *svc, const char *name,
+    int64_t *revp, struct err *e);
+int service_put_policy(struct service *svc, const struct policy *p,
+    int64_t *revp, struct err *e);
+int service_patch_link(struct service *svc, const char *id,
+    const struct link_patch *lp, int64_t *revp, struct err *e);
+int service_put_network(struct service *svc, const struct model *net,
+    const char *matrix, int64_t *revp, struct err *e);
+
+/* Reads from SQLite; results belong to the caller. */
+int service_get_topology(struct service *svc, struct model **mp,
+    struct err *e);
+int service_get_matrix(struct service *svc, const char *name,
+    struct matrix **mxp, struct err *e);
+int service_list_matrices(struct service *svc, struct db_name **namesp,
+    size_t *np, struct err *e);
+int service_revision(struct service *svc, int64_t *revp, struct err *e);
+
+/* What the solver is doing, for health and monitoring. */
+struct service_status {
+	int64_t model_revision;		/* newest committed model revision */
+	int64_t plan_revision;		/* newest published plan, 0 if none */
+	int64_t plan_model_revision;	/* model revision that plan reflects */
+	bool last_solve_failed;		/* the newest solve attempt failed */
+	int64_t failed_model_revision;	/* the revision it failed on */
+	char last_error[256];		/* its message, "" if none */
+};
+int service_status(struct service *svc, struct service_status *st,
+    struct err *e);
+
+/*
+ * Returns the newest published plan with a reference taken, or NULL if
+ * none has been published yet.  Release it with service_plan_unref().
+ */
+struct published *service_plan_ref(struct service *svc);
+void service_plan_unref(struct published *p);
+
+/*
+ * Writes the LP of the published plan's model (stage as in struct
+ * solve_opts: -1 for the last) in format into a new buffer *textp of
+ * *lenp bytes, which the caller frees.  ERR_NOTFOUND when no plan exists.
+ */
+int service_export_model(struct service *svc, enum export_format format,
+    int stage, char **textp, size_t *lenp, struct err *e);
+
+#endif /* WEFT_DAEMON_SERVICE_H */

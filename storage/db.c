@@ -1,0 +1,362 @@
+/* SPDX-License-Identifier: GPL-3.0-or-later */
+/* Opening the database: pragmas, migrations, the model revision, helpers. */
+
+/*
+ * DESIGN
+ * db_open() makes one connection (SQLITE_OPEN_NOMUTEX: the caller keeps it
+ * on one thread at a time), waits up to DB_BUSY_MS for locks, turns on WAL,
+ * synchronous=FULL and foreign keys, then applies the migrations compiled in
+ * from storage/schema/ (schema.h).  PRAGMA user_version counts the
+ * migrations applied; each one runs in its own IMMEDIATE transaction that
+ * also sets user_version, so a crash mid-migration leaves the previous
+ * version intact and two processes opening the same new file cannot both
+ * migrate it.  The model revision lives in meta under "model_revision";
+ * every model write adds exactly one inside its own transaction
+ * (db_bump_revision), so a revision names exactly one committed state.
+ */
+
+#include <stdio.h>
+#include <stdlib.h>
+#include <string.h>
+
+#include <sqlite3.h>
+
+#include "db.h"
+#include "db_internal.h"
+#include "schema.h"
+#include "../daemon/base/err.h"
+#include "../daemon/base/xalloc.h"
+
+/* ---- helpers shared by the query files ---- */
+
+int
+db_fail(struct db *db, int rc, const char *what, struct err *e)
+{
+	const char *why = NULL;
+	int code = ERR_DB;
+
+	switch (rc & 0xff) {
+	case SQLITE_BUSY:
+	case SQLITE_LOCKED:
+		code = ERR_BUSY;
+		why = "the database is locked by another connection";
+		break;
+	case SQLITE_FULL:
+		why = "the disk or the database is full";
+		break;
+	case SQLITE_READONLY:
+		why = "the database is read-only";
+		break;
+	case SQLITE_IOERR:
+		why = "input/output error on the database file";
+		break;
+	case SQLITE_CORRUPT:
+	case SQLITE_NOTADB:
+		why = "the file is damaged or not a weft database";
+		break;
+	default:
+		break;
+	}
+	if (why != NULL)
+		return err_set(e, code, NULL, "%s: %s (%s)", what, why,
+		    db != NULL && db->sq != NULL ? sqlite3_errmsg(db->sq) :
+		    sqlite3_errstr(rc));
+	return err_set(e, code, NULL, "%s: %s", what,
+	    db != NULL && db->sq != NULL ? sqlite3_errmsg(db->sq) :
+	    sqlite3_errstr(rc));
+}
+
+int
+db_prepare(struct db *db, const char *sql, sqlite3_stmt **stp, struct err *e)
+{
+	int rc;
+
+	*stp = NULL;
+	rc = sqlite3_prepare_v2(db->sq, sql, -1, stp, NULL);
+	if (rc != SQLITE_OK) {
+		sqlite3_finalize(*stp);
+		*stp = NULL;
+		return db_fail(db, rc, "preparing a statement", e);
+	}
+	return 0;
+}
+
+int
+db_exec(struct db *db, const char *sql, struct err *e)
+{
+	sqlite3_stmt *st = NULL;
+	int r, rc;
+
+	if ((r = db_prepare(db, sql, &st, e)) != 0)
+		return r;
+	while ((rc = sqlite3_step(st)) == SQLITE_ROW)
+		;
+	r = 0;
+	if (rc != SQLITE_DONE)
+		r = db_fail(db, rc, sql, e);
+	sqlite3_finalize(st);
+	return r;
+}
+
+int
+db_begin(struct db *db, bool write, struct err *e)
+{
+	return db_exec(db, write ? "BEGIN IMMEDIATE" : "BEGIN DEFERRED", e);
+}
+
+int
+db_commit(struct db *db, struct err *e)
+{
+	return db_exec(db, "COMMIT", e);
+}
+
+void
+db_rollback(struct db *db)
+{
+	if (db == NULL || db->sq == NULL || sqlite3_get_autocommit(db->sq))
+		return;
+	(void)db_exec(db, "ROLLBACK", NULL);
+}
+
+int
+db_read_revision(struct db *db, int64_t *revp, struct err *e)
+{
+	sqlite3_stmt *st = NULL;
+	int r, rc;
+
+	*revp = 0;
+	if ((r = db_prepare(db,
+	    "SELECT value FROM meta WHERE key = 'model_revision'", &st, e)) != 0)
+		return r;
+	rc = sqlite3_step(st);
+	if (rc == SQLITE_ROW) {
+		*revp = sqlite3_column_int64(st, 0);
+		r = 0;
+	} else if (rc == SQLITE_DONE)
+		r = err_set(e, ERR_DB, NULL,
+		    "the meta table has no model_revision row");
+	else
+		r = db_fail(db, rc, "reading the model revision", e);
+	sqlite3_finalize(st);
+	return r;
+}
+
+int
+db_bump_revision(struct db *db, int64_t *revp, struct err *e)
+{
+	int r;
+
+	*revp = 0;
+	if ((r = db_exec(db, "UPDATE meta SET value = value + 1 "
+	    "WHERE key = 'model_revision'", e)) != 0)
+		return r;
+	if (sqlite3_changes(db->sq) != 1)
+		return err_set(e, ERR_DB, NULL,
+		    "the meta table has no model_revision row");
+	return db_read_revision(db, revp, e);
+}
+
+int
+db_check_name(const char *name, const char *where, struct err *e)
+{
+	if (name == NULL || name[0] == '\0')
+		return err_set(e, ERR_INVALID, where, "empty name");
+	if (strlen(name) > DB_NAME_MAX)
+		return err_set(e, ERR_INVALID, where,
+		    "name longer than %d bytes", DB_NAME_MAX);
+	return 0;
+}
+
+char *
+db_column_strdup(sqlite3_stmt *st, int col)
+{
+	const unsigned char *s;
+
+	s = sqlite3_column_text(st, col);
+	return s != NULL ? xstrdup((const char *)s) : NULL;
+}
+
+/* ---- open, pragmas, migrations ---- */
+
+/*
+ * Runs a PRAGMA and copies the first column of its first row (if any) into
+ * out.  PRAGMA takes no bound parameters, so sql is always our own text.
+ */
+static int
+pragma(struct db *db, const char *sql, char *out, size_t outlen,
+    struct err *e)
+{
+	sqlite3_stmt *st = NULL;
+	const unsigned char *s;
+	int r, rc;
+
+	if (out != NULL && outlen > 0)
+		out[0] = '\0';
+	if ((r = db_prepare(db, sql, &st, e)) != 0)
+		return r;
+	while ((rc = sqlite3_step(st)) == SQLITE_ROW) {
+		s = sqlite3_column_text(st, 0);
+		if (out != NULL && outlen > 0 && out[0] == '\0' && s != NULL)
+			snprintf(out, outlen, "%s", (const char *)s);
+	}
+	r = 0;
+	if (rc != SQLITE_DONE)
+		r = db_fail(db, rc, sql, e);
+	sqlite3_finalize(st);
+	return r;
+}
+
+/* Runs every statement of a migration script in turn. */
+static int
+exec_script(struct db *db, const char *sql, int version, struct err *e)
+{
+	sqlite3_stmt *st = NULL;
+	const char *tail = sql, *next;
+	char what[64];
+	int r = ERR_INTERNAL, rc;
+
+	snprintf(what, sizeof(what), "applying schema migration %d", version);
+	while (*tail != '\0') {
+		rc = sqlite3_prepare_v2(db->sq, tail, -1, &st, &next);
+		if (rc != SQLITE_OK) {
+			r = db_fail(db, rc, what, e);
+			goto out;
+		}
+		if (st == NULL)		/* only comments or blanks were left */
+			break;
+		while ((rc = sqlite3_step(st)) == SQLITE_ROW)
+			;
+		if (rc != SQLITE_DONE) {
+			r = db_fail(db, rc, what, e);
+			goto out;
+		}
+		sqlite3_finalize(st);
+		st = NULL;
+		tail = next;
+	}
+	r = 0;
+out:
+	sqlite3_finalize(st);
+	return r;
+}
+
+static int
+migrate(struct db *db, struct err *e)
+{
+	char buf[32], sql[64];
+	long version;
+	int r = ERR_INTERNAL;
+
+	for (;;) {
+		/* Read the version under the write lock: another process may
+		   have migrated between our open and this transaction. */
+		if ((r = db_begin(db, true, e)) != 0)
+			goto out;
+		if ((r = pragma(db, "PRAGMA user_version", buf, sizeof(buf),
+		    e)) != 0)
+			goto out;
+		version = strtol(buf, NULL, 10);
+		if (version < 0 || (size_t)version > schema_migrations_n) {
+			r = err_set(e, ERR_DB, NULL, "database schema version "
+			    "%ld is newer than this program knows (%zu)",
+			    version, schema_migrations_n);
+			goto out;
+		}
+		if ((size_t)version == schema_migrations_n)
+			break;
+		if ((r = exec_script(db, schema_migrations[version],
+		    (int)version + 1, e)) != 0)
+			goto out;
+		snprintf(sql, sizeof(sql), "PRAGMA user_version = %ld",
+		    version + 1);
+		if ((r = pragma(db, sql, NULL, 0, e)) != 0)
+			goto out;
+		if ((r = db_commit(db, e)) != 0)
+			goto out;
+	}
+	if ((r = db_commit(db, e)) != 0)
+		goto out;
+	r = 0;
+out:
+	if (r != 0)
+		db_rollback(db);
+	return r;
+}
+
+int
+db_open(const char *path, struct db **dbp, struct err *e)
+{
+	struct db *db = NULL;
+	char buf[32];
+	int r = ERR_INTERNAL, rc;
+
+	*dbp = NULL;
+	if (path == NULL || path[0] == '\0') {
+		r = err_set(e, ERR_IO, NULL, "no database path given");
+		goto out;
+	}
+	db = xcalloc(1, sizeof(*db));
+	rc = sqlite3_open_v2(path, &db->sq, SQLITE_OPEN_READWRITE |
+	    SQLITE_OPEN_CREATE | SQLITE_OPEN_NOMUTEX, NULL);
+	if (rc != SQLITE_OK) {
+		if (db->sq == NULL) {
+			r = err_set(e, ERR_NOMEM, NULL,
+			    "no memory to open the database");
+			goto out;
+		}
+		r = err_set(e, (rc & 0xff) == SQLITE_CANTOPEN ? ERR_IO :
+		    ERR_DB, NULL, "cannot open database %s: %s", path,
+		    sqlite3_errmsg(db->sq));
+		goto out;
+	}
+	sqlite3_extended_result_codes(db->sq, 1);
+	sqlite3_busy_timeout(db->sq, DB_BUSY_MS);
+
+	/* The first statement reads the file: a non-database fails here. */
+	if ((r = pragma(db, "PRAGMA journal_mode = WAL", buf, sizeof(buf),
+	    e)) != 0)
+		goto out;
+	if (strcmp(buf, "wal") != 0) {
+		r = err_set(e, ERR_DB, NULL, "database %s: cannot use "
+		    "write-ahead logging (journal mode is %s)", path, buf);
+		goto out;
+	}
+	if ((r = pragma(db, "PRAGMA synchronous = FULL", NULL, 0, e)) != 0)
+		goto out;
+	if ((r = pragma(db, "PRAGMA foreign_keys = ON", NULL, 0, e)) != 0)
+		goto out;
+	/* A build without foreign key support ignores the pragma. */
+	if ((r = pragma(db, "PRAGMA foreign_keys", buf, sizeof(buf), e)) != 0)
+		goto out;
+	if (strcmp(buf, "1") != 0) {
+		r = err_set(e, ERR_DB, NULL,
+		    "this SQLite does not enforce foreign keys");
+		goto out;
+	}
+	if ((r = migrate(db, e)) != 0)
+		goto out;
+
+	*dbp = db;
+	db = NULL;
+	r = 0;
+out:
+	db_close(db);
+	return r;
+}
+
+void
+db_close(struct db *db)
+{
+	if (db == NULL)
+		return;
+	/* All statements are finalized by the calls that made them, so
+	   sqlite3_close() cannot be left busy. */
+	sqlite3_close(db->sq);
+	free(db);
+}
+
+int
+db_revision(struct db *db, int64_t *revp, struct err *e)
+{
+	return db_read_revision(db, revp, e);
+}

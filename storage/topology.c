@@ -1,0 +1,602 @@
+/* SPDX-License-Identifier: GPL-3.0-or-later */
+/* Stored topology: replacing nodes and links, patching a link, loading. */
+
+/*
+ * DESIGN
+ * A topology is always replaced whole: inside one IMMEDIATE transaction
+ * every link and node row is deleted and the new ones inserted with their
+ * position as ordinal, so loading them ORDER BY ordinal gives back the
+ * caller's order (plans are arrays parallel to nodes[] and links[]).  The
+ * foreign keys from links and demands to nodes are deferred to commit, so
+ * the rows may be briefly dangling mid-transaction; before committing,
+ * conflicts() looks for a stored demand whose node is gone and fails the
+ * write with ERR_CONFLICT naming it, which rolls everything back.  Loading
+ * reads topology, policy, demands and revision in one read transaction,
+ * so the snapshot is one committed state.
+ */
+
+#include <math.h>
+#include <stdio.h>
+#include <string.h>
+
+#include <sqlite3.h>
+
+#include "db.h"
+#include "db_internal.h"
+#include "../daemon/base/err.h"
+#include "../daemon/engine/model.h"
+
+/* ---- validation ---- */
+
+static int
+check_id(const char *id, const char *kind, size_t i, struct err *e)
+{
+	const unsigned char *p;
+	char where[48];
+
+	snprintf(where, sizeof(where), "%s[%zu].id", kind, i);
+	if (id == NULL || id[0] == '\0')
+		return err_set(e, ERR_INVALID, where, "empty id");
+	if (strlen(id) > MODEL_ID_MAX)
+		return err_set(e, ERR_INVALID, where,
+		    "id longer than %d bytes", MODEL_ID_MAX);
+	/* The model refuses these on load; refuse them on the way in. */
+	for (p = (const unsigned char *)id; *p != '\0'; p++)
+		if (*p < 0x20 || *p == 0x7f)
+			return err_set(e, ERR_INVALID, where,
+			    "id holds a control character");
+	return 0;
+}
+
+/*
+ * Checks what the schema's constraints would reject, so the caller gets a
+ * where and a sentence instead of a constraint name.  Duplicate ids are
+ * caught by the primary keys during the insert (see put_nodes()).
+ */
+static int
+check_topology(const struct model *topo, struct err *e)
+{
+	const struct node *nd;
+	const struct link *l;
+	char where[64];
+	size_t i;
+	int r;
+
+	for (i = 0; i < topo->n_nodes; i++) {
+		nd = &topo->nodes[i];
+		if ((r = check_id(nd->id, "nodes", i, e)) != 0)
+			return r;
+		if (!nd->has_coords)
+			continue;
+		if (!isfinite(nd->lat) || fabs(nd->lat) > 90) {
+			snprintf(where, sizeof(where), "nodes[%zu].lat", i);
+			return err_set(e, ERR_INVALID, where,
+			    "latitude must be within [-90, 90] degrees");
+		}
+		if (!isfinite(nd->lon) || fabs(nd->lon) > 180) {
+			snprintf(where, sizeof(where), "nodes[%zu].lon", i);
+			return err_set(e, ERR_INVALID, where,
+			    "longitude must be within [-180, 180] degrees");
+		}
+	}
+	for (i = 0; i < topo->n_links; i++) {
+		l = &topo->links[i];
+		if ((r = check_id(l->id, "links", i, e)) != 0)
+			return r;
+		if (l->a >= topo->n_nodes || l->b >= topo->n_nodes) {
+			snprintf(where, sizeof(where), "links[%zu].%s", i,
+			    l->a >= topo->n_nodes ? "a" : "b");
+			return err_set(e, ERR_INVALID, where,
+			    "node index out of range");
+		}
+		if (l->a == l->b) {
+			snprintf(where, sizeof(where), "links[%zu].b", i);
+			return err_set(e, ERR_INVALID, where,
+			    "link ends must differ");
+		}
+		if (!isfinite(l->capacity_bps) || l->capacity_bps <= 0 ||
+		    l->capacity_bps > MODEL_RATE_MAX) {
+			snprintf(where, sizeof(where), "links[%zu].capacity_bps",
+			    i);
+			return err_set(e, ERR_INVALID, where,
+			    "capacity must be in (0, %g] bit/s", MODEL_RATE_MAX);
+		}
+		if (!isfinite(l->te_metric) || l->te_metric <= 0 ||
+		    l->te_metric > MODEL_METRIC_MAX) {
+			snprintf(where, sizeof(where), "links[%zu].te_metric",
+			    i);
+			return err_set(e, ERR_INVALID, where,
+			    "TE metric must be in (0, %g]", MODEL_METRIC_MAX);
+		}
+	}
+	return 0;
+}
+
+/* ---- writing ---- */
+
+static int
+put_nodes(struct db *db, const struct model *topo, struct err *e)
+{
+	sqlite3_stmt *st = NULL;
+	const struct node *nd;
+	char where[48];
+	size_t i;
+	int r = ERR_INTERNAL, rc;
+
+	if ((r = db_prepare(db, "INSERT INTO nodes (id, ordinal, name, lat, "
+	    "lon) VALUES (?1, ?2, ?3, ?4, ?5)", &st, e)) != 0)
+		goto out;
+	for (i = 0; i < topo->n_nodes; i++) {
+		nd = &topo->nodes[i];
+		sqlite3_reset(st);
+		if ((rc = sqlite3_bind_text(st, 1, nd->id, -1,
+		    SQLITE_STATIC)) != SQLITE_OK ||
+		    (rc = sqlite3_bind_int64(st, 2, (sqlite3_int64)i)) !=
+		    SQLITE_OK ||
+		    (rc = nd->name != NULL ? sqlite3_bind_text(st, 3,
+		    nd->name, -1, SQLITE_STATIC) : sqlite3_bind_null(st, 3)) !=
+		    SQLITE_OK ||
+		    (rc = nd->has_coords ? sqlite3_bind_double(st, 4,
+		    nd->lat) : sqlite3_bind_null(st, 4)) != SQLITE_OK ||
+		    (rc = nd->has_coords ? sqlite3_bind_double(st, 5,
+		    nd->lon) : sqlite3_bind_null(st, 5)) != SQLITE_OK) {
+			r = db_fail(db, rc, "binding a node", e);
+			goto out;
+		}
+		rc = sqlite3_step(st);
+		if (rc == SQLITE_CONSTRAINT_PRIMARYKEY) {
+			snprintf(where, sizeof(where), "nodes[%zu].id", i);
+			r = err_set(e, ERR_INVALID, where,
+			    "duplicate node id \"%s\"", nd->id);
+			goto out;
+		}
+		if (rc != SQLITE_DONE) {
+			r = db_fail(db, rc, "storing a node", e);
+			goto out;
+		}
+	}
+	r = 0;
+out:
+	sqlite3_finalize(st);
+	return r;
+}
+
+static int
+put_links(struct db *db, const struct model *topo, struct err *e)
+{
+	sqlite3_stmt *st = NULL;
+	const struct link *l;
+	char where[48];
+	size_t i;
+	int r = ERR_INTERNAL, rc;
+
+	if ((r = db_prepare(db, "INSERT INTO links (id, ordinal, a, b, "
+	    "capacity_bps, te_metric, up) VALUES (?1, ?2, ?3, ?4, ?5, ?6, ?7)",
+	    &st, e)) != 0)
+		goto out;
+	for (i = 0; i < topo->n_links; i++) {
+		l = &topo->links[i];
+		sqlite3_reset(st);
+		/* The model holds node indices; the store holds node ids. */
+		if ((rc = sqlite3_bind_text(st, 1, l->id, -1,
+		    SQLITE_STATIC)) != SQLITE_OK ||
+		    (rc = sqlite3_bind_int64(st, 2, (sqlite3_int64)i)) !=
+		    SQLITE_OK ||
+		    (rc = sqlite3_bind_text(st, 3, topo->nodes[l->a].id, -1,
+		    SQLITE_STATIC)) != SQLITE_OK ||
+		    (rc = sqlite3_bind_text(st, 4, topo->nodes[l->b].id, -1,
+		    SQLITE_STATIC)) != SQLITE_OK ||
+		    (rc = sqlite3_bind_double(st, 5, l->capacity_bps)) !=
+		    SQLITE_OK ||
+		    (rc = sqlite3_bind_double(st, 6, l->te_metric)) !=
+		    SQLITE_OK ||
+		    (rc = sqlite3_bind_int(st, 7, l->up ? 1 : 0)) != SQLITE_OK) {
+			r = db_fail(db, rc, "binding a link", e);
+			goto out;
+		}
+		rc = sqlite3_step(st);
+		if (rc == SQLITE_CONSTRAINT_PRIMARYKEY) {
+			snprintf(where, sizeof(where), "links[%zu].id", i);
+			r = err_set(e, ERR_INVALID, where,
+			    "duplicate link id \"%s\"", l->id);
+			goto out;
+		}
+		if (rc != SQLITE_DONE) {
+			r = db_fail(db, rc, "storing a link", e);
+			goto out;
+		}
+	}
+	r = 0;
+out:
+	sqlite3_finalize(st);
+	return r;
+}
+
+/* Inside the write transaction: replaces all nodes and links. */
+static int
+replace_topology(struct db *db, const struct model *topo, struct err *e)
+{
+	int r;
+
+	/* Links first: nothing else refers to them. */
+	if ((r = db_exec(db, "DELETE FROM links", e)) != 0 ||
+	    (r = db_exec(db, "DELETE FROM nodes", e)) != 0 ||
+	    (r = put_nodes(db, topo, e)) != 0 ||
+	    (r = put_links(db, topo, e)) != 0)
+		return r;
+	return 0;
+}
+
+/*
+ * After a topology replacement, before commit: fails with ERR_CONFLICT
+ * naming the first stored demand (by matrix name, then position) whose
+ * node the new topology lacks.
+ */
+static int
+conflicts(struct db *db, struct err *e)
+{
+	sqlite3_stmt *st = NULL;
+	const char *matrix, *node;
+	int r = ERR_INTERNAL, rc;
+
+	if ((r = db_prepare(db,
+	    "SELECT matrix, ordinal, 0, src FROM demands "
+	    "WHERE src NOT IN (SELECT id FROM nodes) "
+	    "UNION ALL "
+	    "SELECT matrix, ordinal, 1, dst FROM demands "
+	    "WHERE dst NOT IN (SELECT id FROM nodes) "
+	    "ORDER BY 1, 2, 3 LIMIT 1", &st, e)) != 0)
+		goto out;
+	rc = sqlite3_step(st);
+	if (rc == SQLITE_ROW) {
+		matrix = (const char *)sqlite3_column_text(st, 0);
+		node = (const char *)sqlite3_column_text(st, 3);
+		r = err_set(e, ERR_CONFLICT, "nodes", "matrix \"%s\" refers to "
+		    "node \"%s\", which the new topology does not have",
+		    matrix != NULL ? matrix : "", node != NULL ? node : "");
+		goto out;
+	}
+	if (rc != SQLITE_DONE) {
+		r = db_fail(db, rc, "checking matrices against the topology",
+		    e);
+		goto out;
+	}
+	r = 0;
+out:
+	sqlite3_finalize(st);
+	return r;
+}
+
+int
+db_put_topology(struct db *db, const struct model *topo, int64_t *revp,
+    struct err *e)
+{
+	int64_t rev = 0;
+	int r = ERR_INTERNAL;
+
+	*revp = 0;
+	if (topo == NULL) {
+		r = err_set(e, ERR_INVALID, NULL, "no topology");
+		goto out;
+	}
+	if ((r = check_topology(topo, e)) != 0)
+		goto out;
+	if ((r = db_begin(db, true, e)) != 0 ||
+	    (r = db_bump_revision(db, &rev, e)) != 0 ||
+	    (r = replace_topology(db, topo, e)) != 0 ||
+	    (r = conflicts(db, e)) != 0 ||
+	    (r = db_commit(db, e)) != 0)
+		goto out;
+	*revp = rev;
+	r = 0;
+out:
+	if (r != 0)
+		db_rollback(db);
+	return r;
+}
+
+/*
+ * Turns net's demands (node indices) into a matrix of node ids after
+ * checking the indices; field checks are matrix_check()'s.
+ */
+static int
+net_matrix(const struct model *net, const char *name, struct matrix **mxp,
+    struct err *e)
+{
+	struct matrix *mx = NULL;
+	const struct demand *d;
+	char where[48];
+	size_t i;
+	int r = ERR_INTERNAL;
+
+	*mxp = NULL;
+	for (i = 0; i < net->n_demands; i++) {
+		d = &net->demands[i];
+		if (d->src >= net->n_nodes || d->dst >= net->n_nodes) {
+			snprintf(where, sizeof(where), "demands[%zu].%s", i,
+			    d->src >= net->n_nodes ? "src" : "dst");
+			r = err_set(e, ERR_INVALID, where,
+			    "node index out of range");
+			goto out;
+		}
+	}
+	mx = matrix_new(name);
+	for (i = 0; i < net->n_demands; i++) {
+		d = &net->demands[i];
+		matrix_add(mx, net->nodes[d->src].id, net->nodes[d->dst].id,
+		    d->rate_bps, d->priority);
+	}
+	if ((r = matrix_check(mx, e)) != 0)
+		goto out;
+	*mxp = mx;
+	mx = NULL;
+	r = 0;
+out:
+	matrix_free(mx);
+	return r;
+}
+
+int
+db_put_network(struct db *db, const struct model *net, const char *name,
+    int64_t *revp, struct err *e)
+{
+	struct matrix *mx = NULL;
+	int64_t rev = 0;
+	int r = ERR_INTERNAL;
+
+	*revp = 0;
+	if (net == NULL) {
+		r = err_set(e, ERR_INVALID, NULL, "no network");
+		goto out;
+	}
+	if ((r = db_check_name(name, "name", e)) != 0 ||
+	    (r = check_topology(net, e)) != 0 ||
+	    (r = net_matrix(net, name, &mx, e)) != 0)
+		goto out;
+	/* The named matrix is rewritten before the conflict check, so only
+	   the other matrices can conflict with the new nodes. */
+	if ((r = db_begin(db, true, e)) != 0 ||
+	    (r = db_bump_revision(db, &rev, e)) != 0 ||
+	    (r = replace_topology(db, net, e)) != 0 ||
+	    (r = db_write_matrix(db, name, mx, rev, e)) != 0 ||
+	    (r = conflicts(db, e)) != 0 ||
+	    (r = db_commit(db, e)) != 0)
+		goto out;
+	*revp = rev;
+	r = 0;
+out:
+	if (r != 0)
+		db_rollback(db);
+	matrix_free(mx);
+	return r;
+}
+
+static int
+link_exists(struct db *db, const char *id, bool *existsp, struct err *e)
+{
+	sqlite3_stmt *st = NULL;
+	int r = ERR_INTERNAL, rc;
+
+	*existsp = false;
+	if ((r = db_prepare(db, "SELECT 1 FROM links WHERE id = ?1", &st,
+	    e)) != 0)
+		goto out;
+	if ((rc = sqlite3_bind_text(st, 1, id, -1, SQLITE_STATIC)) !=
+	    SQLITE_OK) {
+		r = db_fail(db, rc, "binding a link id", e);
+		goto out;
+	}
+	rc = sqlite3_step(st);
+	if (rc != SQLITE_ROW && rc != SQLITE_DONE) {
+		r = db_fail(db, rc, "looking up a link", e);
+		goto out;
+	}
+	*existsp = rc == SQLITE_ROW;
+	r = 0;
+out:
+	sqlite3_finalize(st);
+	return r;
+}
+
+int
+db_patch_link(struct db *db, const char *id, const struct link_patch *lp,
+    int64_t *revp, struct err *e)
+{
+	sqlite3_stmt *st = NULL;
+	int64_t rev = 0;
+	bool exists;
+	int r = ERR_INTERNAL, rc;
+
+	*revp = 0;
+	if (id == NULL || id[0] == '\0') {
+		r = err_set(e, ERR_INVALID, "id", "empty link id");
+		goto out;
+	}
+	if (lp == NULL) {
+		r = err_set(e, ERR_INVALID, NULL, "no link change");
+		goto out;
+	}
+	if (lp->has_capacity && (!isfinite(lp->capacity_bps) ||
+	    lp->capacity_bps <= 0 || lp->capacity_bps > MODEL_RATE_MAX)) {
+		r = err_set(e, ERR_INVALID, "capacity_bps",
+		    "capacity must be in (0, %g] bit/s", MODEL_RATE_MAX);
+		goto out;
+	}
+	if (lp->has_metric && (!isfinite(lp->te_metric) ||
+	    lp->te_metric <= 0 || lp->te_metric > MODEL_METRIC_MAX)) {
+		r = err_set(e, ERR_INVALID, "te_metric",
+		    "TE metric must be in (0, %g]", MODEL_METRIC_MAX);
+		goto out;
+	}
+	if ((r = db_begin(db, true, e)) != 0 ||
+	    (r = link_exists(db, id, &exists, e)) != 0)
+		goto out;
+	if (!exists) {
+		r = err_set(e, ERR_NOTFOUND, "id", "no link \"%s\"", id);
+		goto out;
+	}
+	if ((r = db_bump_revision(db, &rev, e)) != 0)
+		goto out;
+	/* A NULL parameter keeps the stored value. */
+	if ((r = db_prepare(db, "UPDATE links SET up = coalesce(?2, up), "
+	    "capacity_bps = coalesce(?3, capacity_bps), "
+	    "te_metric = coalesce(?4, te_metric) WHERE id = ?1", &st, e)) != 0)
+		goto out;
+	if ((rc = sqlite3_bind_text(st, 1, id, -1, SQLITE_STATIC)) !=
+	    SQLITE_OK ||
+	    (rc = lp->has_up ? sqlite3_bind_int(st, 2, lp->up ? 1 : 0) :
+	    sqlite3_bind_null(st, 2)) != SQLITE_OK ||
+	    (rc = lp->has_capacity ? sqlite3_bind_double(st, 3,
+	    lp->capacity_bps) : sqlite3_bind_null(st, 3)) != SQLITE_OK ||
+	    (rc = lp->has_metric ? sqlite3_bind_double(st, 4,
+	    lp->te_metric) : sqlite3_bind_null(st, 4)) != SQLITE_OK) {
+		r = db_fail(db, rc, "binding a link change", e);
+		goto out;
+	}
+	if ((rc = sqlite3_step(st)) != SQLITE_DONE) {
+		r = db_fail(db, rc, "changing a link", e);
+		goto out;
+	}
+	if ((r = db_commit(db, e)) != 0)
+		goto out;
+	*revp = rev;
+	r = 0;
+out:
+	sqlite3_finalize(st);
+	if (r != 0)
+		db_rollback(db);
+	return r;
+}
+
+/* ---- loading ---- */
+
+static int
+read_nodes(struct db *db, struct model *m, struct err *e)
+{
+	sqlite3_stmt *st = NULL;
+	const char *id, *name;
+	struct err le;
+	size_t idx;
+	int r = ERR_INTERNAL, rc;
+
+	if ((r = db_prepare(db, "SELECT id, name, lat, lon FROM nodes "
+	    "ORDER BY ordinal", &st, e)) != 0)
+		goto out;
+	while ((rc = sqlite3_step(st)) == SQLITE_ROW) {
+		id = (const char *)sqlite3_column_text(st, 0);
+		name = (const char *)sqlite3_column_text(st, 1);
+		err_clear(&le);
+		if (id == NULL || model_add_node(m, id, name, &idx, "nodes",
+		    &le) != 0) {
+			r = err_set(e, ERR_DB, NULL, "stored node \"%s\" is "
+			    "unusable: %s", id != NULL ? id : "", le.msg);
+			goto out;
+		}
+		if (sqlite3_column_type(st, 2) != SQLITE_NULL &&
+		    sqlite3_column_type(st, 3) != SQLITE_NULL) {
+			m->nodes[idx].lat = sqlite3_column_double(st, 2);
+			m->nodes[idx].lon = sqlite3_column_double(st, 3);
+			m->nodes[idx].has_coords = true;
+		}
+	}
+	if (rc != SQLITE_DONE) {
+		r = db_fail(db, rc, "reading nodes", e);
+		goto out;
+	}
+	r = 0;
+out:
+	sqlite3_finalize(st);
+	return r;
+}
+
+static int
+read_links(struct db *db, struct model *m, struct err *e)
+{
+	sqlite3_stmt *st = NULL;
+	const char *id, *a, *b;
+	struct err le;
+	int r = ERR_INTERNAL, rc;
+
+	if ((r = db_prepare(db, "SELECT id, a, b, capacity_bps, te_metric, up "
+	    "FROM links ORDER BY ordinal", &st, e)) != 0)
+		goto out;
+	while ((rc = sqlite3_step(st)) == SQLITE_ROW) {
+		id = (const char *)sqlite3_column_text(st, 0);
+		a = (const char *)sqlite3_column_text(st, 1);
+		b = (const char *)sqlite3_column_text(st, 2);
+		err_clear(&le);
+		if (id == NULL || a == NULL || b == NULL ||
+		    model_add_link(m, id, a, b, sqlite3_column_double(st, 3),
+		    sqlite3_column_double(st, 4),
+		    sqlite3_column_int(st, 5) != 0, "links", &le) != 0) {
+			r = err_set(e, ERR_DB, NULL, "stored link \"%s\" is "
+			    "unusable: %s", id != NULL ? id : "", le.msg);
+			goto out;
+		}
+	}
+	if (rc != SQLITE_DONE) {
+		r = db_fail(db, rc, "reading links", e);
+		goto out;
+	}
+	r = 0;
+out:
+	sqlite3_finalize(st);
+	return r;
+}
+
+/* Reads one consistent snapshot; demands only when with_demands. */
+static int
+load(struct db *db, bool with_demands, struct model **mp, struct err *e)
+{
+	struct model *m = NULL;
+	struct matrix *mx = NULL;
+	struct err le;
+	int64_t rev;
+	int r = ERR_INTERNAL;
+
+	*mp = NULL;
+	m = model_new();
+	if ((r = db_begin(db, false, e)) != 0 ||
+	    (r = db_read_revision(db, &rev, e)) != 0 ||
+	    (r = read_nodes(db, m, e)) != 0 ||
+	    (r = read_links(db, m, e)) != 0 ||
+	    (r = db_read_policy(db, &m->policy, e)) != 0)
+		goto out;
+	if (with_demands && m->policy.matrix != NULL) {
+		if ((r = db_read_matrix(db, m->policy.matrix, &mx, e)) != 0)
+			goto out;
+		err_clear(&le);
+		/* Storage never commits a demand whose node is missing, so
+		   failing here means the file was changed behind our back. */
+		if (mx != NULL && model_set_matrix(m, mx, &le) != 0) {
+			r = err_set(e, ERR_DB, NULL, "stored matrix \"%s\" does "
+			    "not fit the stored topology: %s",
+			    m->policy.matrix, le.msg);
+			goto out;
+		}
+	}
+	if ((r = db_commit(db, e)) != 0)
+		goto out;
+	m->revision = rev;
+	*mp = m;
+	m = NULL;
+	r = 0;
+out:
+	if (r != 0)
+		db_rollback(db);
+	matrix_free(mx);
+	model_free(m);
+	return r;
+}
+
+int
+db_load_model(struct db *db, struct model **mp, struct err *e)
+{
+	return load(db, true, mp, e);
+}
+
+int
+db_load_topology(struct db *db, struct model **mp, struct err *e)
+{
+	return load(db, false, mp, e);
+}
