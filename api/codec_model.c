@@ -1,5 +1,5 @@
 /* SPDX-License-Identifier: GPL-3.0-or-later */
-/* JSON <-> topology, traffic matrix, policy and link patch, strictly checked. */
+/* JSON <-> topology, traffic matrix, policy, link patch; strictly checked. */
 
 /*
  * DESIGN

@@ -1,5 +1,5 @@
 /* SPDX-License-Identifier: GPL-3.0-or-later */
-/* POST /v1/import: replace topology and one matrix from an SNDlib or CSV file. */
+/* POST /v1/import: replace topology and one matrix from an SNDlib/CSV file. */
 #include <stddef.h>
 #include <stdint.h>
 #include <string.h>

@@ -392,7 +392,9 @@ http_start(const struct http_conf *c, struct service *svc, struct http **hp,
 	    MHD_USE_ERROR_LOG;
 	if (ai->ai_family == AF_INET6)
 		flags |= MHD_USE_IPv6;
+	/* The logger goes first, so it sees problems with the others. */
 	h->mhd = MHD_start_daemon(flags, 0, NULL, NULL, on_request, h,
+	    MHD_OPTION_EXTERNAL_LOGGER, mhd_log, h,
 	    MHD_OPTION_SOCK_ADDR, ai->ai_addr,
 	    MHD_OPTION_THREAD_POOL_SIZE, c->threads > 0 ? c->threads : 1u,
 	    MHD_OPTION_CONNECTION_LIMIT, c->max_connections > 0 ?
@@ -400,7 +402,6 @@ http_start(const struct http_conf *c, struct service *svc, struct http **hp,
 	    MHD_OPTION_PER_IP_CONNECTION_LIMIT, c->per_ip_limit,
 	    MHD_OPTION_CONNECTION_TIMEOUT, c->timeout_s,
 	    MHD_OPTION_NOTIFY_COMPLETED, on_completed, h,
-	    MHD_OPTION_EXTERNAL_LOGGER, mhd_log, h,
 	    MHD_OPTION_END);
 	if (h->mhd == NULL) {
 		r = err_set(e, ERR_IO, "listen", "cannot serve HTTP on %s",

@@ -1,5 +1,5 @@
 /* SPDX-License-Identifier: GPL-3.0-or-later */
-/* Setting a request's reply: JSON bodies, plan texts and the one error reply. */
+/* Setting a reply: JSON bodies, plan texts and the one error reply. */
 #ifndef WEFT_API_REPLY_H
 #define WEFT_API_REPLY_H
 

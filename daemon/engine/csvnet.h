@@ -34,14 +34,14 @@ struct model;
 /*
  * Parses text[0 .. len-1] (need not be NUL-terminated; nothing past len is
  * read) into a new model: the nodes, the links and the demands in the
- * order they appear, each demand kept separately.  A text without any
- * node row is refused, so that an empty body cannot wipe a network.  Returns 0 and the model
+ * order they appear, each demand kept separately.  Returns 0 and the model
  * in *mp, which the caller frees with model_free(); or ERR_INVALID with
  * *mp NULL and the first problem in e, where "line N" is the line on which
- * the offending row starts.  Node rows are read before link rows and link
- * rows before demand rows, so an error in a node row is reported before
- * one in an earlier link row.  Memory use is linear in len; the caller
- * bounds len.
+ * the offending row starts.  A text without any node row is refused, so
+ * that an empty body cannot pass for an empty network.  Node rows are read
+ * before link rows and link rows before demand rows, so an error in a node
+ * row is reported before one in an earlier link row.  Memory use is linear
+ * in len; the caller bounds len.
  */
 int csvnet_parse(const char *text, size_t len, struct model **mp,
     struct err *e);

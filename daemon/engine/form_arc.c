@@ -35,6 +35,7 @@
  */
 
 #include <math.h>
+#include <stdint.h>
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
@@ -564,25 +565,259 @@ take_prices(struct arcform *f)
 	}
 }
 
-/* Stage 1: serve as much as fits, by priority class. */
+/* ---- a starting basis from shortest paths ---- */
+
+/* Binary heap of nodes keyed by dist, for Dijkstra. */
+struct heap {
+	size_t *node;		/* heap order */
+	size_t *at;		/* node -> place in node[], or SIZE_MAX */
+	size_t n;
+	const double *dist;
+};
+
+static void
+heap_swap(struct heap *h, size_t i, size_t j)
+{
+	size_t t = h->node[i];
+
+	h->node[i] = h->node[j];
+	h->node[j] = t;
+	h->at[h->node[i]] = i;
+	h->at[h->node[j]] = j;
+}
+
+static void
+heap_up(struct heap *h, size_t i)
+{
+	while (i > 0 && h->dist[h->node[(i - 1) / 2]] > h->dist[h->node[i]]) {
+		heap_swap(h, i, (i - 1) / 2);
+		i = (i - 1) / 2;
+	}
+}
+
+static size_t
+heap_pop(struct heap *h)
+{
+	size_t top = h->node[0], i = 0, c;
+
+	heap_swap(h, 0, --h->n);
+	h->at[top] = SIZE_MAX;
+	for (;;) {
+		c = 2 * i + 1;
+		if (c >= h->n)
+			break;
+		if (c + 1 < h->n && h->dist[h->node[c + 1]] < h->dist[h->node[c]])
+			c++;
+		if (h->dist[h->node[c]] >= h->dist[h->node[i]])
+			break;
+		heap_swap(h, i, c);
+		i = c;
+	}
+	return top;
+}
+
+/*
+ * Shortest paths from s by TE metric over up arcs: dist[v] (INFINITY when
+ * unreachable) and via[v], the last arc.  start/arcs list each node's
+ * out-arcs.
+ */
+static void
+dijkstra(const struct arcform *f, size_t s, const size_t *start,
+    const size_t *arcs, double *dist, size_t *via, struct heap *h)
+{
+	const struct link *l;
+	size_t v, w, t, a;
+	double nd;
+
+	for (v = 0; v < f->n; v++) {
+		dist[v] = INFINITY;
+		h->at[v] = SIZE_MAX;
+	}
+	h->n = 0;
+	h->dist = dist;
+	dist[s] = 0;
+	h->node[h->n] = s;
+	h->at[s] = h->n++;
+	while (h->n > 0) {
+		v = heap_pop(h);
+		for (t = start[v]; t < start[v + 1]; t++) {
+			a = arcs[t];
+			l = &f->m->links[a / 2];
+			w = a % 2 == 0 ? l->b : l->a;
+			nd = dist[v] + l->te_metric / f->metric_max;
+			if (nd >= dist[w])
+				continue;
+			dist[w] = nd;
+			via[w] = a;
+			if (h->at[w] == SIZE_MAX) {
+				h->node[h->n] = w;
+				h->at[w] = h->n++;
+			}
+			heap_up(h, h->at[w]);
+		}
+	}
+}
+
+/*
+ * Sets the starting basis: per source, the arcs of its shortest-path tree
+ * are basic in the conservation rows of the nodes they enter; a node the
+ * tree misses makes one of its demands' u basic instead (or keeps its
+ * row's slack).  Capacity rows keep their slacks.  Each source's block is
+ * a tree incidence matrix, so the basis is triangular and non-singular.
+ * It routes every demand on a shortest path: with all u at zero it is dual
+ * feasible for the first stage's objective, and primal feasible unless a
+ * shortest path overloads an arc, which the dual simplex then repairs.
+ */
+static void
+crash_basis(struct arcform *f)
+{
+	const struct model *m = f->m;
+	const struct demand *d;
+	struct heap h;
+	size_t *start, *arcs, *via, *fill, si, s, v, a, k;
+	double *dist;
+	bool *done;
+
+	start = xcalloc(f->n + 1, sizeof(*start));
+	arcs = xcalloc(f->n_arcs + 1, sizeof(*arcs));
+	fill = xcalloc(f->n + 1, sizeof(*fill));
+	for (a = 0; a < f->n_arcs; a++)
+		if (f->cap_row[a] >= 0)
+			start[(a % 2 == 0 ? m->links[a / 2].a :
+			    m->links[a / 2].b) + 1]++;
+	for (v = 0; v < f->n; v++)
+		start[v + 1] += start[v];
+	for (a = 0; a < f->n_arcs; a++)
+		if (f->cap_row[a] >= 0) {
+			v = a % 2 == 0 ? m->links[a / 2].a : m->links[a / 2].b;
+			arcs[start[v] + fill[v]++] = a;
+		}
+	dist = xcalloc(f->n, sizeof(*dist));
+	via = xcalloc(f->n, sizeof(*via));
+	done = xcalloc(f->n_src * f->n, sizeof(*done));
+	h.node = xcalloc(f->n, sizeof(*h.node));
+	h.at = xcalloc(f->n, sizeof(*h.at));
+	for (si = 0; si < f->n_src; si++) {
+		s = f->src_node[si];
+		dijkstra(f, s, start, arcs, dist, via, &h);
+		for (v = 0; v < f->n; v++) {
+			if (v == s || dist[v] == INFINITY)
+				continue;
+			lp_set_col_stat(f->lp, f->fcol[si * f->n_arcs + via[v]],
+			    LP_BASIC);
+			lp_set_row_stat(f->lp, cons_row(f, si, v),
+			    LP_NONBASIC);
+			done[si * f->n + v] = true;
+		}
+	}
+	for (k = 0; k < m->n_demands; k++) {
+		if (f->ucol[k] < 0)
+			continue;
+		d = &m->demands[k];
+		si = (size_t)f->src_of[d->src];
+		if (done[si * f->n + d->dst])
+			continue;
+		lp_set_col_stat(f->lp, f->ucol[k], LP_BASIC);
+		lp_set_row_stat(f->lp, cons_row(f, si, d->dst), LP_NONBASIC);
+		done[si * f->n + d->dst] = true;
+	}
+	free(start);
+	free(arcs);
+	free(fill);
+	free(dist);
+	free(via);
+	free(done);
+	free(h.node);
+	free(h.at);
+}
+
+/* Sets the objective to sum (TE metric / largest metric) x flow. */
+static void
+set_cost_obj(struct arcform *f)
+{
+	size_t si, a;
+	int j;
+
+	for (si = 0; si < f->n_src; si++)
+		for (a = 0; a < f->n_arcs; a++)
+			if ((j = f->fcol[si * f->n_arcs + a]) >= 0)
+				lp_set_obj(f->lp, j,
+				    f->m->links[a / 2].te_metric /
+				    f->metric_max);
+}
+
+/*
+ * The weight of unserved traffic in the first LP.  Cost: a path has at
+ * most n - 1 arcs of scaled metric <= 1, so carrying one LP unit costs
+ * less than n.  Balance: dropping one LP unit lowers U by at most
+ * 1 / (smallest capacity); capped so GLPK's tolerances stay meaningful.
+ */
+static double
+admit_weight(const struct arcform *f)
+{
+	size_t i;
+	double cmin = INFINITY;
+
+	if (!f->balance)
+		return (double)f->n;
+	for (i = 0; i < f->m->n_links; i++)
+		if (f->m->links[i].up)
+			cmin = fmin(cmin, f->m->links[i].capacity_bps / f->scale);
+	return fmin(1e4, fmax((double)f->n, 2 / cmin));
+}
+
+/* Sum of the u columns, LP units. */
+static double
+sum_unserved(const struct arcform *f)
+{
+	size_t k;
+	double z = 0;
+
+	for (k = 0; k < f->m->n_demands; k++)
+		if (f->ucol[k] >= 0)
+			z += fmax(lp_col_value(f->lp, f->ucol[k]), 0);
+	return z;
+}
+
+/*
+ * Stage 1: serve as much as fits, by priority class.
+ *
+ * The first LP, "admit", asks whether everything fits.  It minimises
+ * W x sum u plus the policy's next objective (cost, or U when balancing).
+ * If its optimum leaves nothing unserved, that point is also optimal for
+ * the next objective under "all served", so the next stage finds its
+ * basis optimal and does no work.  W (see admit_weight) makes serving
+ * worth more than any saving in the second term in the usual case; where
+ * it is not enough, the optimum leaves traffic unserved and the exact
+ * per-class stages below run, so W never changes the result.  The stage
+ * reports the unserved traffic at its optimum.
+ */
 static int
 admit(struct arcform *f, struct err *e)
 {
 	const struct model *m = f->m;
 	int prio, *rc, n_rc, row, r;
-	double z, *rv, class_lp[MODEL_PRIO_MAX + 1];
+	double z, w, *rv, class_lp[MODEL_PRIO_MAX + 1];
 	char name[32];
 	size_t k;
 
 	memset(class_lp, 0, sizeof(class_lp));
 	lp_clear_obj(f->lp);
+	w = admit_weight(f);
 	for (k = 0; k < m->n_demands; k++)
 		if (f->ucol[k] >= 0) {
-			lp_set_obj(f->lp, f->ucol[k], 1);
+			lp_set_obj(f->lp, f->ucol[k], w);
 			class_lp[m->demands[k].priority] += f->d_lp[k];
 		}
+	if (f->balance)
+		lp_set_obj(f->lp, f->ucol_U, 1);
+	else
+		set_cost_obj(f);
+	crash_basis(f);
 	if ((r = stage(f, "admit", LP_DUAL, f->scale, false, &z, e)) != 0)
 		return r;
+	z = sum_unserved(f);
+	f->p->stages[f->p->n_stages - 1].objective = z * f->scale;
 	if (z <= ZERO_REL * fmax(1, f->demand_lp)) {
 		pin_unserved(f, -1);
 		return 0;
@@ -644,17 +879,10 @@ balance(struct arcform *f, struct err *e)
 static int
 cost(struct arcform *f, struct err *e)
 {
-	size_t si, a;
 	double z;
-	int j;
 
 	lp_clear_obj(f->lp);
-	for (si = 0; si < f->n_src; si++)
-		for (a = 0; a < f->n_arcs; a++)
-			if ((j = f->fcol[si * f->n_arcs + a]) >= 0)
-				lp_set_obj(f->lp, j,
-				    f->m->links[a / 2].te_metric /
-				    f->metric_max);
+	set_cost_obj(f);
 	return stage(f, "cost", LP_PRIMAL, f->metric_max * f->scale, true,
 	    &z, e);
 }
@@ -726,9 +954,22 @@ routes_from_lp(struct arcform *f)
 	flow = xcalloc(f->n_arcs + 1, sizeof(*flow));
 	group_demands(f, order, start);
 	for (si = 0; si < f->n_src; si++) {
+		memset(flow, 0, f->n_arcs * sizeof(*flow));
 		for (a = 0; a < f->n_arcs; a++) {
-			c = f->fcol[si * f->n_arcs + a];
-			flow[a] = c >= 0 ? lp_col_value(f->lp, c) : 0;
+			if ((c = f->fcol[si * f->n_arcs + a]) < 0)
+				continue;
+			/*
+			 * The simplex leaves flows as low as -tol_bnd (1e-7
+			 * LP units) while keeping conservation exact.  Read
+			 * a negative flow as flow on the opposite arc, so the
+			 * decomposition sees an exactly conserved flow and
+			 * small demands keep their paths.
+			 */
+			x = lp_col_value(f->lp, c);
+			if (x >= 0)
+				flow[a] += x;
+			else
+				flow[a ^ 1] -= x;
 		}
 		lo = start[si];
 		hi = start[si + 1];

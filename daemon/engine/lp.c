@@ -258,6 +258,21 @@ lp_add_row(struct lp *lp, int n, const int *cols, const double *vals,
 }
 
 void
+lp_set_row_stat(struct lp *lp, int i, enum lp_vstat s)
+{
+	assert(i >= 0 && i < glp_get_num_rows(lp->P));
+	/* GLPK turns GLP_NL into the non-basic status the bounds allow. */
+	glp_set_row_stat(lp->P, i + 1, s == LP_BASIC ? GLP_BS : GLP_NL);
+}
+
+void
+lp_set_col_stat(struct lp *lp, int j, enum lp_vstat s)
+{
+	assert(j >= 0 && j < glp_get_num_cols(lp->P));
+	glp_set_col_stat(lp->P, j + 1, s == LP_BASIC ? GLP_BS : GLP_NL);
+}
+
+void
 lp_scale(struct lp *lp)
 {
 	glp_scale_prob(lp->P, GLP_SF_AUTO);
@@ -303,6 +318,8 @@ simplex(struct lp *lp, int meth, const struct lp_params *p, double t0)
 	parm.meth = meth;
 	parm.presolve = GLP_OFF;
 	parm.out_frq = 5000;
+	if (getenv("TOLB")) parm.tol_bnd = atof(getenv("TOLB"));
+	if (getenv("TOLD")) parm.tol_dj = atof(getenv("TOLD"));
 	if (p->time_limit_s > 0) {
 		left = p->time_limit_s * 1e3 - (now_ms() - t0);
 		if (left < 1)

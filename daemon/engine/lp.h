@@ -99,6 +99,22 @@ void lp_load_matrix(struct lp *lp, size_t n, const int *rows,
 int lp_add_row(struct lp *lp, int n, const int *cols, const double *vals,
     double lo, double hi);
 
+/* Where a variable sits in a basis. */
+enum lp_vstat {
+	LP_BASIC = 0,
+	LP_NONBASIC = 1,	/* at its lower bound if it has one, else upper */
+};
+
+/*
+ * Sets the basis status of a row's auxiliary variable or of a column, to
+ * start the next lp_solve() from a basis the caller knows (a crash basis).
+ * The caller keeps the number of basic variables equal to the number of
+ * rows and the basis matrix non-singular; otherwise lp_solve() falls back
+ * to a basis of its own.
+ */
+void lp_set_row_stat(struct lp *lp, int i, enum lp_vstat s);
+void lp_set_col_stat(struct lp *lp, int j, enum lp_vstat s);
+
 /* Applies GLPK's automatic scaling; call once, after the matrix is loaded. */
 void lp_scale(struct lp *lp);
 

@@ -18,10 +18,32 @@ class SolverFailed(Exception):
     pass
 
 
+def _clp_bounds(mps_path):
+    """CLP 1.17's free-MPS reader rejects a BOUNDS line whose bound-set name
+    is "BND1", as GLPK's MPS writer names it ("No match for column <value>"),
+    while it reads the same line with the name "BND".  The bound-set name
+    carries no meaning in a file with one bound set, so rename it in a copy
+    next to the original and solve that.
+    """
+    out = mps_path + ".clp.mps"
+    section = None
+    with open(mps_path, "r") as f, open(out, "w") as g:
+        for line in f:
+            if line[:1] not in (" ", "*", "\n", ""):
+                section = line.split()[0] if line.split() else section
+            elif section == "BOUNDS":
+                t = line.split()
+                if len(t) >= 3 and t[1] == "BND1":
+                    t[1] = "BND"
+                    line = " " + " ".join(t) + "\n"
+            g.write(line)
+    return out
+
+
 def clp(mps_path, tight=False, timeout=300):
     """COIN-OR CLP.  tight=True sets primal and dual tolerances to 1e-10
     (CLP's defaults are 1e-7)."""
-    args = [CLP, mps_path]
+    args = [CLP, _clp_bounds(mps_path)]
     if tight:
         args += ["-primalT", "1e-10", "-dualT", "1e-10"]
     args += ["-solve"]

@@ -1,0 +1,795 @@
+#!/usr/bin/python3
+# SPDX-License-Identifier: GPL-3.0-or-later
+"""Integration tests: a real weftd, real HTTP on 127.0.0.1, bad input on purpose.
+
+Run from the repository root with /usr/bin/python3 (make check-integration).
+Each test_* function is one case; the runner prints "ok N - name" or
+"not ok N - name" with the reason, exits non-zero if any failed, and bounds
+every case in time (CASE_TIMEOUT_S) besides the per-request timeouts.
+
+Expected values come from outside weft: optima derived by hand on tiny
+networks (the derivation is beside each network), the instance counts
+published with SNDlib (tests/data/PROVENANCE.md), and an LP solved with
+scipy's HiGHS from an independent reading of the SNDlib file.
+"""
+import http.client
+import json
+import os
+import re
+import signal
+import sys
+import time
+import traceback
+
+ROOT = os.path.dirname(os.path.dirname(os.path.dirname(os.path.abspath(__file__))))
+sys.path.insert(0, os.path.join(ROOT, "tests", "lib"))
+from weftd import Daemon  # noqa: E402
+
+CASE_TIMEOUT_S = 120
+MAX_BODY = 256 * 1024          # --max-body of the shared daemon
+REL = 1e-6                     # relative tolerance for plan numbers
+EXTERNAL = bool(os.environ.get("WEFT_TEST_ADDR"))
+
+# ---------------------------------------------------------------------------
+# The hand-made network used by most cases: four sites of a fictional
+# operator, two disjoint routes from A to D.
+#
+#        L_AB (10G, metric 1)     L_BD (10G, metric 1)
+#     A ---------------------- B ---------------------- D
+#      \                                               /
+#       `-- L_AC (10G, metric 2) -- C -- L_CD (10G, metric 2)
+#
+# One demand A -> D of 15 Gbit/s, priority 0.
+#
+# Cost objective (min sum metric x flow): the route A-B-D costs 2 per bit/s,
+# A-C-D costs 4.  Fill the cheap route to its capacity, 10G, and send the
+# remaining 5G over A-C-D: cost 10e9*2 + 5e9*4 = 40e9; L_AB and L_BD are
+# full (utilisation 1), L_AC and L_CD carry 5G (0.5).  Any other split moves
+# traffic from cost 2 to cost 4, so this optimum is unique.
+#
+# Balance objective (min max utilisation U, then min cost): the cut
+# {L_AB, L_AC} around A has 20G and must carry 15G, so U >= 0.75; the split
+# 7.5G / 7.5G reaches it, and it is the only split with both routes at
+# <= 7.5G.  Cost 7.5e9*2 + 7.5e9*4 = 45e9; all four links carry 7.5G.
+#
+# With L_AB down only A-C-D remains, 10G: 10G carried, 5G unserved
+# (status partial, all of it priority 0).
+#
+# With L_AB's metric raised to 21 (burst case), A-B-D costs 22 and A-C-D 4:
+# A-C-D is filled with 10G and 5G go over A-B-D: cost 10e9*4 + 5e9*22 =
+# 150e9.
+# ---------------------------------------------------------------------------
+TOPO4 = {
+    "nodes": [{"id": "A", "name": "Ashgrove", "lat": 51.5, "lon": -0.12},
+              {"id": "B", "name": "Brackenfield"},
+              {"id": "C", "name": "Coldmoor"},
+              {"id": "D", "name": "Dunmere"}],
+    "links": [
+        {"id": "L_AB", "a": "A", "b": "B", "capacity_bps": 1e10, "te_metric": 1},
+        {"id": "L_BD", "a": "B", "b": "D", "capacity_bps": 1e10, "te_metric": 1},
+        {"id": "L_AC", "a": "A", "b": "C", "capacity_bps": 1e10, "te_metric": 2},
+        {"id": "L_CD", "a": "C", "b": "D", "capacity_bps": 1e10, "te_metric": 2, "state": "up"},
+    ],
+}
+TM = {"demands": [{"src": "A", "dst": "D", "rate_bps": 15e9, "priority": 0}]}
+
+D = None        # the shared daemon, started by main()
+
+
+class Fail(Exception):
+    pass
+
+
+class Skip(Exception):
+    pass
+
+
+def own_daemon_needed():
+    if EXTERNAL:
+        raise Skip("needs a daemon of its own; WEFT_TEST_ADDR is set")
+
+
+def check(cond, what):
+    if not cond:
+        raise Fail(what)
+
+
+def near(got, want, what, rel=REL):
+    check(got is not None and abs(got - want) <= rel * max(1.0, abs(want)),
+          "%s: got %r, want %r (rel %g)" % (what, got, want, rel))
+
+
+def ok200(r, what):
+    check(r.status == 200, "%s: status %d, body %r" % (what, r.status, r.body[:400]))
+    return r.json()
+
+
+def health(d=None):
+    return ok200((d or D).get("/v1/health"), "health")
+
+
+def setup_tiny(d, objective="cost"):
+    """Installs TOPO4, matrix tm and a policy; returns the last revision."""
+    ok200(d.put("/v1/topology", TOPO4), "put topology")
+    ok200(d.put("/v1/matrices/tm", TM), "put matrix")
+    return ok200(d.put("/v1/policy", {"objective": objective, "headroom": 1.0,
+                                      "matrix": "tm"}), "put policy")["model_revision"]
+
+
+def loads_by_id(d):
+    j = ok200(d.get("/v1/plan/loads"), "loads")
+    return j, {l["id"]: l for l in j["links"]}
+
+
+def snapshot(d=None):
+    """What a rejected request must leave alone: revision and stored state."""
+    d = d or D
+    return (health(d)["model_revision"], d.get("/v1/topology").body,
+            d.get("/v1/matrices").body, d.get("/v1/policy").body)
+
+
+def expect_error(r, status, code, where=None, where_re=None):
+    check(r.status == status, "status %d, want %d; body %r" % (r.status, status, r.body[:300]))
+    check(r.headers.get("Content-Type", "").startswith("application/json"),
+          "error Content-Type %r" % r.headers.get("Content-Type"))
+    j = r.json()
+    check(set(j) == {"error"}, "error body keys %r" % list(j))
+    e = j["error"]
+    check(set(e) == {"code", "message", "where"}, "error keys %r" % list(e))
+    check(e["code"] == code, "code %r, want %r" % (e["code"], code))
+    check(isinstance(e["message"], str) and e["message"], "empty message")
+    if where is not None:
+        check(e["where"] == where, "where %r, want %r (message %r)" % (e["where"], where, e["message"]))
+    if where_re is not None:
+        check(re.fullmatch(where_re, e["where"]), "where %r !~ %r" % (e["where"], where_re))
+    return e
+
+
+def rejected(method, path, body, status, code, where=None, where_re=None,
+             ctype="application/json", headers=None):
+    """Sends a bad request; checks the error reply and that nothing changed."""
+    before = snapshot()
+    r = D.request(method, path, body, ctype=ctype, headers=headers)
+    e = expect_error(r, status, code, where, where_re)
+    after = snapshot()
+    check(after == before, "%s %s changed the stored model: revision %d -> %d"
+          % (method, path, before[0], after[0]))
+    return e
+
+
+def topo_with(**changes):
+    """A deep copy of TOPO4 with one link's fields replaced (link=index)."""
+    t = json.loads(json.dumps(TOPO4))
+    i = changes.pop("link", 0)
+    t["links"][i].update(changes)
+    return t
+
+
+# ---------------------------------------------------------------------------
+# Cases on the shared daemon
+# ---------------------------------------------------------------------------
+
+def test_health():
+    j = health()
+    check(j["status"] == "ok", "status %r" % j)
+    check(isinstance(j["model_revision"], int) and j["model_revision"] >= 0, "model_revision %r" % j)
+    check(isinstance(j["plan_revision"], int), "plan_revision %r" % j)
+    r = D.get("/v1/health")
+    check(re.fullmatch(r"[0-9a-f]+-[0-9]+", r.headers.get("X-Request-Id", "")),
+          "X-Request-Id %r" % r.headers.get("X-Request-Id"))
+
+
+def test_cost_plan():
+    rev = setup_tiny(D, "cost")
+    p = D.wait_plan(rev, timeout=60)
+    check(p["model_revision"] == rev, "plan for revision %d, want %d" % (p["model_revision"], rev))
+    check(p["status"] == "optimal", "status %r" % p["status"])
+    check(p["objective"] == "cost" and p["matrix"] == "tm", "objective/matrix %r" % p)
+    near(p["total_cost"], 40e9, "total cost (hand-derived)")
+    near(p["max_utilization"], 1.0, "max utilisation")
+    near(p["demand_bps"], 15e9, "demand")
+    near(p["carried_bps"], 15e9, "carried")
+    near(p["unserved_bps"], 0, "unserved")
+    check(sorted(p["unserved_by_priority"]) == [str(i) for i in range(8)], "priorities %r" % p)
+    check(p["stages"] and all(set(s) == {"name", "objective", "iterations", "ms"} for s in p["stages"]),
+          "stages %r" % p["stages"])
+    _, by = loads_by_id(D)
+    for lid, want in (("L_AB", 10e9), ("L_BD", 10e9), ("L_AC", 5e9), ("L_CD", 5e9)):
+        near(by[lid]["a_to_b"]["load_bps"], want, lid + " a->b load")
+        near(by[lid]["b_to_a"]["load_bps"], 0, lid + " b->a load")
+        near(by[lid]["a_to_b"]["utilization"], want / 1e10, lid + " utilisation")
+        near(by[lid]["a_to_b"]["headroom_bps"], 1e10 - want, lid + " headroom")
+
+
+def test_balance_plan():
+    rev = ok200(D.put("/v1/policy", {"objective": "balance", "headroom": 1.0, "matrix": "tm",
+                                      "balance_tolerance": 1e-7}), "policy")["model_revision"]
+    p = D.wait_plan(rev, timeout=60)
+    check(p["objective"] == "balance", "objective %r" % p["objective"])
+    near(p["max_utilization"], 0.75, "max utilisation (cut bound 15/20)")
+    near(p["total_cost"], 45e9, "cost at U = 0.75")
+    _, by = loads_by_id(D)
+    for lid in ("L_AB", "L_BD", "L_AC", "L_CD"):
+        near(by[lid]["a_to_b"]["load_bps"], 7.5e9, lid + " load")
+    pol = ok200(D.get("/v1/policy"), "get policy")
+    check(pol["objective"] == "balance" and pol["matrix"] == "tm", "policy %r" % pol)
+    near(pol["headroom"], 1.0, "headroom")
+    near(pol["balance_tolerance"], 1e-7, "tolerance")
+    ok200(D.put("/v1/policy", {"objective": "cost", "headroom": 1.0, "matrix": "tm"}), "policy back")
+
+
+def test_routes_and_loads_shape():
+    rev = health()["model_revision"]
+    p = D.wait_plan(rev, timeout=60)
+    r = D.get("/v1/plan/routes")
+    j = ok200(r, "routes")
+    check(r.headers.get("ETag") == '"%d"' % j["revision"], "ETag %r" % r.headers.get("ETag"))
+    check(j["revision"] >= p["revision"], "routes as new as the summary")
+    check(set(j) == {"revision", "model_revision", "routes"}, "keys %r" % list(j))
+    check(len(j["routes"]) == 1, "one route per demand")
+    rt = j["routes"][0]
+    check(set(rt) == {"src", "dst", "priority", "rate_bps", "carried_bps", "unserved_bps", "paths"},
+          "route keys %r" % list(rt))
+    check((rt["src"], rt["dst"], rt["priority"]) == ("A", "D", 0), "route ends %r" % rt)
+    near(sum(x["rate_bps"] for x in rt["paths"]), rt["carried_bps"], "paths add up")
+    links = {l["id"]: l for l in TOPO4["links"]}
+    for path in rt["paths"]:
+        check(set(path) == {"rate_bps", "nodes", "links"}, "path keys %r" % list(path))
+        check(path["nodes"][0] == "A" and path["nodes"][-1] == "D", "path ends %r" % path)
+        check(len(path["nodes"]) == len(path["links"]) + 1, "path lengths %r" % path)
+        for k, lid in enumerate(path["links"]):
+            l = links[lid]
+            check({l["a"], l["b"]} == {path["nodes"][k], path["nodes"][k + 1]},
+                  "link %s does not join %s and %s" % (lid, path["nodes"][k], path["nodes"][k + 1]))
+    got = sorted((tuple(x["nodes"]), round(x["rate_bps"])) for x in rt["paths"])
+    check(got == [(("A", "B", "D"), 10000000000), (("A", "C", "D"), 5000000000)], "paths %r" % got)
+    lj, by = loads_by_id(D)
+    check(set(lj) == {"revision", "model_revision", "links", "max_utilization"}, "loads keys %r" % list(lj))
+    check([l["id"] for l in lj["links"]] == [l["id"] for l in TOPO4["links"]], "links in topology order")
+    for l in lj["links"]:
+        check(set(l) == {"id", "a", "b", "state", "capacity_bps", "te_metric", "a_to_b", "b_to_a"},
+              "load keys %r" % list(l))
+        for side in ("a_to_b", "b_to_a"):
+            check(set(l[side]) == {"load_bps", "utilization", "headroom_bps", "shadow_price", "saturated"},
+                  "arc keys %r" % list(l[side]))
+            check(isinstance(l[side]["saturated"], bool), "saturated is a bool")
+
+
+def test_patch_link_down_changes_plan():
+    ok200(D.put("/v1/policy", {"objective": "cost", "headroom": 1.0, "matrix": "tm"}), "policy")
+    j = ok200(D.request("PATCH", "/v1/links/L_AB", {"state": "down"}), "patch down")
+    rev = j["model_revision"]
+    check(health()["model_revision"] == rev, "health shows the write's revision")
+    link = ok200(D.get("/v1/links/L_AB"), "get link")
+    check(link["state"] == "down" and link["a"] == "A" and link["b"] == "B", "link %r" % link)
+    p = D.wait_plan(rev, timeout=60)
+    check(p["model_revision"] >= rev, "plan reflects the write")
+    check(p["status"] == "partial", "status %r, want partial" % p["status"])
+    near(p["carried_bps"], 10e9, "carried with L_AB down (only A-C-D)")
+    near(p["unserved_bps"], 5e9, "unserved")
+    near(p["unserved_by_priority"]["0"], 5e9, "unserved at priority 0")
+    near(p["total_cost"], 40e9, "cost 10e9 * 4")
+    check(p["saturated_links"] and set(p["saturated_links"]) <= {"L_AC", "L_CD"},
+          "saturated links %r" % p["saturated_links"])
+    _, by = loads_by_id(D)
+    check(by["L_AB"]["state"] == "down", "loads show L_AB down")
+    near(by["L_AB"]["a_to_b"]["load_bps"], 0, "no load on a down link")
+    near(by["L_AC"]["a_to_b"]["load_bps"], 10e9, "L_AC full")
+    j = ok200(D.request("PATCH", "/v1/links/L_AB", {"state": "up", "capacity_bps": 1e10}), "patch up")
+    p = D.wait_plan(j["model_revision"], timeout=60)
+    near(p["total_cost"], 40e9, "cost back to the two-route optimum")
+    check(p["status"] == "optimal", "status back to optimal")
+
+
+def test_matrices_list_get_delete():
+    ok200(D.put("/v1/matrices/spare-1.b", {"demands": [
+        {"src": "B", "dst": "C", "rate_bps": 1e9},
+        {"src": "C", "dst": "B", "rate_bps": 2.5e8, "priority": 4}]}), "put spare")
+    j = ok200(D.get("/v1/matrices"), "list")
+    by = {m["name"]: m for m in j["matrices"]}
+    check(set(by) >= {"tm", "spare-1.b"}, "names %r" % list(by))
+    check(by["spare-1.b"]["demands"] == 2, "count")
+    near(by["spare-1.b"]["total_bps"], 1.25e9, "total")
+    near(by["tm"]["total_bps"], 15e9, "tm total")
+    m = ok200(D.get("/v1/matrices/spare-1.b"), "get")
+    check([(x["src"], x["dst"], x["priority"]) for x in m["demands"]] == [("B", "C", 0), ("C", "B", 4)],
+          "demands %r" % m)
+    rev = health()["model_revision"]
+    j = ok200(D.request("DELETE", "/v1/matrices/spare-1.b"), "delete")
+    check(j["model_revision"] == rev + 1, "delete makes one revision")
+    expect_error(D.get("/v1/matrices/spare-1.b"), 404, "not_found")
+    rejected("DELETE", "/v1/matrices/spare-1.b", None, 404, "not_found")
+
+
+def test_topology_roundtrip():
+    t = ok200(D.get("/v1/topology"), "get topology")
+    check([n["id"] for n in t["nodes"]] == ["A", "B", "C", "D"], "nodes %r" % t["nodes"])
+    check(t["nodes"][0].get("name") == "Ashgrove", "name kept")
+    near(t["nodes"][0]["lat"], 51.5, "lat")
+    for got, want in zip(t["links"], TOPO4["links"]):
+        check((got["id"], got["a"], got["b"]) == (want["id"], want["a"], want["b"]), "link %r" % got)
+        near(got["capacity_bps"], want["capacity_bps"], "capacity")
+        near(got["te_metric"], want["te_metric"], "metric")
+        check(got["state"] == "up", "state")
+    # The charset parameter is allowed, and PUTting what GET gave is a no-op
+    # apart from the revision.
+    r = D.put("/v1/topology", json.dumps(t), ctype="application/json; charset=UTF-8")
+    ok200(r, "put back")
+    check(ok200(D.get("/v1/topology"), "get again") == t, "round trip")
+
+
+def test_model_export():
+    r = D.get("/v1/model?format=lp")
+    check(r.status == 200, "lp status %d %r" % (r.status, r.body[:200]))
+    check(r.headers.get("Content-Type", "").startswith("text/plain"), "lp ctype")
+    text = r.body.decode()
+    check("Subject To" in text and ("Minimize" in text or "Maximize" in text), "LP text format sections")
+    r = D.get("/v1/model?format=mps&stage=0")
+    check(r.status == 200, "mps status %d %r" % (r.status, r.body[:200]))
+    text = r.body.decode()
+    check("ROWS" in text and "COLUMNS" in text and "RHS" in text, "MPS sections")
+    expect_error(D.get("/v1/model?format=xlsx"), 400, "invalid", "format")
+    expect_error(D.get("/v1/model?stage=99"), 400, "invalid", "stage")
+
+
+def test_concurrent_readers_during_writes():
+    # Plan replies borrow the published texts under a reference; readers
+    # racing with re-solves must always get a whole, parseable plan.
+    import threading
+    errors = []
+
+    def reader():
+        try:
+            for _ in range(40):
+                for path in ("/v1/plan", "/v1/plan/routes", "/v1/plan/loads"):
+                    r = D.get(path, timeout=30)
+                    if r.status != 200:
+                        errors.append("%s: %d" % (path, r.status))
+                        continue
+                    j = r.json()
+                    if r.headers.get("ETag") != '"%d"' % j["revision"]:
+                        errors.append("%s: ETag %r for revision %d" % (path, r.headers.get("ETag"),
+                                                                      j["revision"]))
+        except Exception as exc:
+            errors.append(repr(exc))
+    threads = [threading.Thread(target=reader) for _ in range(4)]
+    for t in threads:
+        t.start()
+    for i in range(10):
+        ok200(D.request("PATCH", "/v1/links/L_CD", {"te_metric": 2 + (i % 2)}), "patch")
+        time.sleep(0.02)
+    for t in threads:
+        t.join(timeout=90)
+    check(not any(t.is_alive() for t in threads), "readers finished")
+    check(not errors, "reader errors: %r" % errors[:5])
+    ok200(D.request("PATCH", "/v1/links/L_CD", {"te_metric": 2}), "restore metric")
+
+
+# ---- bad input: one case per kind, each checking nothing changed ----------
+
+def test_broken_json():
+    rejected("PUT", "/v1/topology", '{"nodes": [\n {"id": "A",}]', 400, "invalid", where_re=r"2:\d+")
+    rejected("PUT", "/v1/matrices/tm", '{"demands": [', 400, "invalid", where_re=r"1:\d+")
+    rejected("PUT", "/v1/policy", "", 400, "invalid", where="")
+    rejected("PATCH", "/v1/links/L_AB", '{"state": "down"} trailing', 400, "invalid", where_re=r"1:\d+")
+
+
+def test_wrong_types():
+    rejected("PUT", "/v1/topology", topo_with(capacity_bps="10G"), 400, "invalid", "links[0].capacity_bps")
+    rejected("PUT", "/v1/topology", {"nodes": [{"id": 5}], "links": []}, 400, "invalid", "nodes[0].id")
+    rejected("PUT", "/v1/topology", {"nodes": {}, "links": []}, 400, "invalid", "nodes")
+    rejected("PUT", "/v1/topology", [1, 2], 400, "invalid", "")
+    rejected("PUT", "/v1/matrices/tm", {"demands": [{"src": "A", "dst": "D", "rate_bps": 1,
+                                                     "priority": "high"}]},
+             400, "invalid", "demands[0].priority")
+    rejected("PUT", "/v1/policy", {"objective": "cost", "headroom": "all", "matrix": "tm"},
+             400, "invalid", "headroom")
+    rejected("PATCH", "/v1/links/L_AB", {"state": False}, 400, "invalid", "state")
+
+
+def test_unknown_fields():
+    t = topo_with(link=2, colour="blue")
+    rejected("PUT", "/v1/topology", t, 400, "invalid", "links[2].colour")
+    rejected("PUT", "/v1/policy", {"objective": "cost", "headroom": 1, "matrix": "tm", "speed": 3},
+             400, "invalid", "speed")
+
+
+def test_bad_numbers():
+    # JSON has no NaN or infinity; a text holding them is not JSON.
+    body = json.dumps(TOPO4).replace('"capacity_bps": 10000000000.0', '"capacity_bps": NaN', 1)
+    check("NaN" in body, "test body has NaN")
+    rejected("PUT", "/v1/topology", body, 400, "invalid", where_re=r"1:\d+")
+    body = json.dumps(TOPO4).replace('"capacity_bps": 10000000000.0', '"capacity_bps": 1e400', 1)
+    rejected("PUT", "/v1/topology", body, 400, "invalid", where_re=r"1:\d+")
+    rejected("PUT", "/v1/topology", topo_with(link=1, capacity_bps=-1), 400, "invalid",
+             "links[1].capacity_bps")
+    rejected("PUT", "/v1/topology", topo_with(link=3, capacity_bps=1e16), 400, "invalid",
+             "links[3].capacity_bps")
+    rejected("PUT", "/v1/topology", topo_with(te_metric=0), 400, "invalid", "links[0].te_metric")
+    rejected("PUT", "/v1/topology", topo_with(te_metric=1e10), 400, "invalid", "links[0].te_metric")
+    rejected("PUT", "/v1/matrices/tm", {"demands": [{"src": "A", "dst": "D", "rate_bps": -1}]},
+             400, "invalid", "demands[0].rate_bps")
+    rejected("PUT", "/v1/matrices/tm", {"demands": [{"src": "A", "dst": "D", "rate_bps": 2e15}]},
+             400, "invalid", "demands[0].rate_bps")
+    rejected("PUT", "/v1/matrices/tm", {"demands": [{"src": "A", "dst": "D", "rate_bps": 1,
+                                                     "priority": 8}]},
+             400, "invalid", "demands[0].priority")
+    rejected("PUT", "/v1/policy", {"objective": "cost", "headroom": 0, "matrix": "tm"},
+             400, "invalid", "headroom")
+    rejected("PUT", "/v1/policy", {"objective": "cost", "headroom": 1.5, "matrix": "tm"},
+             400, "invalid", "headroom")
+    rejected("PATCH", "/v1/links/L_AB", {"capacity_bps": -1e9}, 400, "invalid", "capacity_bps")
+
+
+def test_unknown_node_in_link():
+    rejected("PUT", "/v1/topology", topo_with(link=1, b="Z"), 400, "invalid", "links[1].b")
+
+
+def test_self_loop():
+    rejected("PUT", "/v1/topology", topo_with(link=2, b="A"), 400, "invalid", "links[2].b")
+
+
+def test_duplicate_ids():
+    t = json.loads(json.dumps(TOPO4))
+    t["nodes"].append({"id": "B"})
+    rejected("PUT", "/v1/topology", t, 400, "invalid", "nodes[4].id")
+    rejected("PUT", "/v1/topology", topo_with(link=3, id="L_AB"), 400, "invalid", "links[3].id")
+    rejected("PUT", "/v1/topology", '{"nodes":[],"nodes":[],"links":[]}', 400, "invalid",
+             where_re=r"1:\d+")
+
+
+def test_overlong_id():
+    t = json.loads(json.dumps(TOPO4))
+    t["nodes"].append({"id": "N" * 129})
+    rejected("PUT", "/v1/topology", t, 400, "invalid", "nodes[4].id")
+
+
+def test_matrix_with_unknown_nodes():
+    # The topology has A..D; the store checks the matrix against it.
+    e = rejected("PUT", "/v1/matrices/tm", {"demands": [
+        {"src": "A", "dst": "D", "rate_bps": 1e9},
+        {"src": "A", "dst": "Q", "rate_bps": 1e9}]}, 400, "invalid", "demands[1].dst")
+    check("Q" in e["message"], "message names the node: %r" % e["message"])
+    rejected("PUT", "/v1/matrices/other", {"demands": [{"src": "X", "dst": "A", "rate_bps": 1}]},
+             400, "invalid", "demands[0].src")
+    rejected("PUT", "/v1/matrices/tm", {"demands": [{"src": "A", "dst": "A", "rate_bps": 1}]},
+             400, "invalid", "demands[0].dst")
+
+
+def test_topology_dropping_used_node():
+    # Matrix tm uses D; a topology without D would orphan it: 409.
+    t = {"nodes": [n for n in TOPO4["nodes"] if n["id"] != "D"],
+         "links": [l for l in TOPO4["links"] if "D" not in (l["a"], l["b"])]}
+    rejected("PUT", "/v1/topology", t, 409, "conflict")
+
+
+def test_body_over_limit():
+    own_daemon_needed()     # relies on --max-body
+    pad = " " * (MAX_BODY + 1 - len(json.dumps(TOPO4)))
+    rejected("PUT", "/v1/topology", json.dumps(TOPO4) + pad, 413, "too_big", "body")
+    # Without Content-Length (chunked): refused once the limit is passed.
+    before = snapshot()
+    conn = http.client.HTTPConnection("127.0.0.1", D.port, timeout=30)
+    try:
+        def chunks():
+            yield json.dumps(TOPO4)[:-1].encode()
+            for _ in range(MAX_BODY // 4096 + 2):
+                yield b" " * 4096
+            yield b"}"
+        conn.request("PUT", "/v1/topology", body=chunks(), encode_chunked=True,
+                     headers={"Content-Type": "application/json"})
+        r = conn.getresponse()
+        body = r.read()
+        check(r.status == 413, "chunked: status %d %r" % (r.status, body[:200]))
+        check(json.loads(body)["error"]["code"] == "too_big", "chunked code")
+    finally:
+        conn.close()
+    check(snapshot() == before, "chunked body changed the model")
+    # A small route has a smaller limit than the configured one.
+    rejected("PATCH", "/v1/links/L_AB", '{"state":"down"' + " " * 20000 + "}", 413, "too_big", "body")
+    # A route without a body refuses one.
+    rejected("GET", "/v1/health", "{}", 413, "too_big", "body")
+
+
+def test_deep_nesting():
+    rejected("PUT", "/v1/topology", '{"nodes":' + "[" * 100 + "]" * 100 + ',"links":[]}',
+             400, "invalid", where_re=r"1:\d+")
+
+
+def test_unknown_routes():
+    for path in ("/v1/nope", "/v1/plan/", "/v1/links", "/v2/health", "/", "/v1/matrices/a/b"):
+        rejected("GET", path, None, 404, "not_found", "path")
+    rejected("PUT", "/v1/nothing", TM, 404, "not_found", "path")
+
+
+def test_wrong_methods():
+    for method, path, allow in (("DELETE", "/v1/topology", "GET, PUT"),
+                                ("POST", "/v1/plan", "GET"),
+                                ("PUT", "/v1/links/L_AB", "GET, PATCH"),
+                                ("POST", "/v1/matrices/tm", "GET, PUT, DELETE"),
+                                ("GET", "/v1/import", "POST")):
+        before = snapshot()
+        body = TM if method in ("PUT", "POST") else None
+        r = D.request(method, path, body)
+        expect_error(r, 405, "method_not_allowed", "method")
+        check(r.headers.get("Allow") == allow, "%s %s Allow %r, want %r"
+              % (method, path, r.headers.get("Allow"), allow))
+        check(snapshot() == before, "405 changed the model")
+
+
+def test_wrong_content_type():
+    rejected("PUT", "/v1/topology", json.dumps(TOPO4), 415, "unsupported_media_type", "Content-Type",
+             ctype="text/plain")
+    rejected("PUT", "/v1/topology", json.dumps(TOPO4), 415, "unsupported_media_type", "Content-Type",
+             ctype=None)
+    rejected("PUT", "/v1/matrices/tm", json.dumps(TM), 415, "unsupported_media_type", "Content-Type",
+             ctype="application/json; charset=latin-1")
+    rejected("PATCH", "/v1/links/L_AB", '{"state":"down"}', 415, "unsupported_media_type",
+             "Content-Type", ctype="application/x-www-form-urlencoded")
+    rejected("POST", "/v1/import?format=csv&matrix=x", "node,a\n", 415, "unsupported_media_type",
+             "Content-Type", ctype="application/json")
+
+
+def test_bad_names_and_ids():
+    rejected("PUT", "/v1/matrices/bad%20name", TM, 400, "invalid", "name")
+    rejected("PUT", "/v1/matrices/" + "m" * 65, TM, 400, "invalid", "name")
+    rejected("PATCH", "/v1/links/NOPE", {"state": "down"}, 404, "not_found")
+    expect_error(D.get("/v1/links/NOPE"), 404, "not_found")
+    rejected("PUT", "/v1/policy", {"objective": "cost", "headroom": 1, "matrix": "no/slash"},
+             400, "invalid", "matrix")
+    rejected("PUT", "/v1/policy", {"objective": "fastest", "headroom": 1, "matrix": "tm"},
+             400, "invalid", "objective")
+
+
+def test_bad_imports():
+    rejected("POST", "/v1/import?format=xml&matrix=x", "x", 400, "invalid", "format", ctype="text/plain")
+    rejected("POST", "/v1/import?format=csv", "node,a\n", 400, "invalid", "matrix", ctype="text/csv")
+    rejected("POST", "/v1/import?format=sndlib&matrix=x", "NODES (\n  A ( 0 0 )\n", 400, "invalid",
+             where_re=r"line \d+", ctype="text/plain")
+    rejected("POST", "/v1/import?format=csv&matrix=x", "node,a\nlink,l1,a,zz,1G\n", 400, "invalid",
+             where_re=r"line \d+", ctype="text/csv")
+    # Importing replaces the topology; matrix tm still names A..D: 409.
+    with open(os.path.join(ROOT, "tests", "data", "sndlib", "abilene.txt"), "rb") as f:
+        rejected("POST", "/v1/import?format=sndlib&matrix=abilene", f.read(), 409, "conflict",
+                 ctype="text/plain")
+
+
+# ---------------------------------------------------------------------------
+# Cases with a daemon of their own
+# ---------------------------------------------------------------------------
+
+def read_sndlib(path):
+    """An independent reading of an SNDlib native file: nodes, links
+    (capacity: pre-installed if > 0, else the first module), demands, in
+    bit/s from the META unit (SNDlib 1.0 format description)."""
+    text = open(path).read()
+
+    def section(name):
+        m = re.search(r"^%s \($(.*?)^\)" % name, text, re.M | re.S)
+        return [l.strip() for l in m.group(1).splitlines() if l.strip() and not l.strip().startswith("#")]
+    unit = re.search(r"unit\s*=\s*(\w+)", text)
+    scale = {"BITSPERSEC": 1, "KBITPERSEC": 1e3, "MBITPERSEC": 1e6, "GBITPERSEC": 1e9}[
+        unit.group(1) if unit else "MBITPERSEC"]
+    nodes = [l.split()[0] for l in section("NODES")]
+    links = []
+    for l in section("LINKS"):
+        m = re.match(r"(\S+) \( (\S+) (\S+) \) (\S+) \S+ \S+ \S+ \( ([^)]*)\)", l)
+        pre = float(m.group(4))
+        mods = m.group(5).split()
+        cap = pre if pre > 0 else float(mods[0])
+        links.append((m.group(1), m.group(2), m.group(3), cap * scale))
+    demands = []
+    for l in section("DEMANDS"):
+        m = re.match(r"(\S+) \( (\S+) (\S+) \) \S+ (\S+)", l)
+        demands.append((m.group(2), m.group(3), float(m.group(4)) * scale))
+    return nodes, links, demands
+
+
+def highs_max_carried(nodes, links, demands):
+    """Maximum total carried traffic under capacity: the node-arc LP, one
+    flow per source, solved by scipy's HiGHS.  Rates scaled by the largest
+    capacity."""
+    import numpy as np
+    from scipy.optimize import linprog
+    from scipy.sparse import lil_matrix
+    scale = max(l[3] for l in links)
+    idx = {n: i for i, n in enumerate(nodes)}
+    arcs = []
+    for _, a, b, c in links:
+        arcs += [(idx[a], idx[b], c / scale), (idx[b], idx[a], c / scale)]
+    srcs = sorted({idx[s] for s, _, _ in demands})
+    dem = [(idx[s], idx[t], d / scale) for s, t, d in demands]
+    nf = len(srcs) * len(arcs)
+    nv = nf + len(dem)
+    si = {s: k for k, s in enumerate(srcs)}
+    A_eq = lil_matrix((len(srcs) * len(nodes), nv))
+    for k, s in enumerate(srcs):
+        for j, (u, v, _) in enumerate(arcs):
+            A_eq[k * len(nodes) + u, k * len(arcs) + j] += 1
+            A_eq[k * len(nodes) + v, k * len(arcs) + j] -= 1
+    for q, (s, t, _) in enumerate(dem):
+        k = si[s]
+        A_eq[k * len(nodes) + s, nf + q] -= 1
+        A_eq[k * len(nodes) + t, nf + q] += 1
+    A_ub = lil_matrix((len(arcs), nv))
+    for k in range(len(srcs)):
+        for j in range(len(arcs)):
+            A_ub[j, k * len(arcs) + j] = 1
+    c = np.zeros(nv)
+    c[nf:] = -1
+    bounds = [(0, None)] * nf + [(0, d) for _, _, d in dem]
+    res = linprog(c, A_ub=A_ub.tocsr(), b_ub=[a[2] for a in arcs], A_eq=A_eq.tocsr(),
+                  b_eq=np.zeros(A_eq.shape[0]), bounds=bounds, method="highs")
+    check(res.status == 0, "HiGHS: %s" % res.message)
+    return -res.fun * scale
+
+
+def test_import_sndlib_abilene():
+    path = os.path.join(ROOT, "tests", "data", "sndlib", "abilene.txt")
+    own_daemon_needed()
+    nodes, links, demands = read_sndlib(path)
+    # Counts published with the instance (PROVENANCE.md: N/L/D 12/15/132).
+    check((len(nodes), len(links), len(demands)) == (12, 15, 132), "independent reading of the file")
+    with Daemon(extra_args=["--max-body", str(MAX_BODY)]) as d, open(path, "rb") as f:
+        j = ok200(d.request("POST", "/v1/import?format=sndlib&matrix=abilene", f.read(),
+                            ctype="text/plain"), "import")
+        check((j["nodes"], j["links"], j["demands"]) == (12, 15, 132), "import counts %r" % j)
+        check(health(d)["model_revision"] == j["model_revision"], "revision")
+        t = ok200(d.get("/v1/topology"), "topology")
+        check(sorted(n["id"] for n in t["nodes"]) == sorted(nodes), "node ids")
+        caps = {l[0]: l[3] for l in links}
+        for l in t["links"]:
+            near(l["capacity_bps"], caps[l["id"]], "capacity of " + l["id"])
+        m = ok200(d.get("/v1/matrices/abilene"), "matrix")
+        check(len(m["demands"]) == 132, "demands stored")
+        rev = ok200(d.put("/v1/policy", {"objective": "cost", "headroom": 1.0, "matrix": "abilene"}),
+                    "policy")["model_revision"]
+        p = d.wait_plan(rev, timeout=120)
+        total = sum(x[2] for x in demands)
+        near(p["demand_bps"], total, "demand total (from the file)")
+        ref = highs_max_carried(nodes, links, demands)
+        # Abilene's matrix does not fit its capacities: admission carries
+        # the most it can, which the HiGHS LP gives independently.
+        check(ref < total, "reference says the matrix does not fit")
+        near(p["carried_bps"], ref, "carried traffic vs HiGHS max flow", rel=1e-6)
+        check(p["status"] == "partial", "status %r" % p["status"])
+        rt = ok200(d.get("/v1/plan/routes"), "routes")
+        check(len(rt["routes"]) == 132, "one route per demand")
+
+
+# A fictional three-site network in the CSV format (docs/csv-format.md):
+#   north --n-m (10G, metric 1)-- mill --m-q (2.5G, metric 2, down)-- quay
+#   north --n-q (1G, metric 5)-- quay
+# Demands: north -> quay 400M (priority 0), quay -> mill 1.5G (priority 3).
+# With m-q down, north -> quay can only use n-q (1G, a->b): all 400M fit.
+# quay -> mill must go quay -> north (n-q b->a, 1G) -> mill: 1G carried,
+# 0.5G unserved at priority 3.  Carried 1.4G, cost 0.4e9*5 + 1e9*(5+1) = 8e9.
+CSV_NET = """# fictional test network
+node,north,North Yard,,
+node,mill,"Mill Street, east"
+node,quay,Quay
+link,n-m,north,mill,10G,1
+link,m-q,mill,quay,2.5G,2,down
+link,n-q,north,quay,1G,5
+demand,north,quay,400M,0
+demand,quay,mill,1.5G,3
+"""
+
+
+def test_import_csv():
+    own_daemon_needed()
+    with Daemon() as d:
+        j = ok200(d.request("POST", "/v1/import?format=csv&matrix=base", CSV_NET, ctype="text/csv"),
+                  "import")
+        check((j["nodes"], j["links"], j["demands"]) == (3, 3, 2), "counts %r" % j)
+        t = ok200(d.get("/v1/topology"), "topology")
+        by = {l["id"]: l for l in t["links"]}
+        near(by["n-m"]["capacity_bps"], 1e10, "10G")
+        near(by["m-q"]["capacity_bps"], 2.5e9, "2.5G")
+        check(by["m-q"]["state"] == "down", "state down")
+        check(t["nodes"][1].get("name") == "Mill Street, east", "quoted name %r" % t["nodes"][1])
+        m = ok200(d.get("/v1/matrices/base"), "matrix")
+        check([(x["src"], x["dst"], x["priority"]) for x in m["demands"]]
+              == [("north", "quay", 0), ("quay", "mill", 3)], "demands %r" % m)
+        near(m["demands"][1]["rate_bps"], 1.5e9, "1.5G")
+        rev = ok200(d.put("/v1/policy", {"objective": "cost", "headroom": 1, "matrix": "base"}),
+                    "policy")["model_revision"]
+        p = d.wait_plan(rev, timeout=60)
+        check(p["status"] == "partial", "status %r" % p["status"])
+        near(p["carried_bps"], 1.4e9, "carried")
+        near(p["unserved_by_priority"]["3"], 0.5e9, "unserved at priority 3")
+        near(p["unserved_by_priority"]["0"], 0, "priority 0 all carried")
+        near(p["total_cost"], 8e9, "cost")
+
+
+def test_burst_of_patches_is_coalesced():
+    own_daemon_needed()
+    with Daemon(debounce_ms=400) as d:
+        rev = setup_tiny(d, "cost")
+        p0 = d.wait_plan(rev, timeout=60)
+        # Let any solve still queued from the set-up finish.
+        time.sleep(1.0)
+        p0 = ok200(d.get("/v1/plan"), "plan")
+        revs = []
+        t0 = time.time()
+        for i in range(20):
+            j = ok200(d.request("PATCH", "/v1/links/L_AB", {"te_metric": 2 + i}), "patch %d" % i)
+            revs.append(j["model_revision"])
+        took = time.time() - t0
+        check(revs == list(range(revs[0], revs[0] + 20)), "each PATCH makes one revision: %r" % revs)
+        p = d.wait_plan(revs[-1], timeout=60)
+        time.sleep(1.0)     # any further solve would show up by now
+        p = ok200(d.get("/v1/plan"), "plan")
+        solves = p["revision"] - p0["revision"]
+        print("# 20 PATCHes in %.3f s gave %d new plans" % (took, solves))
+        check(p["model_revision"] == revs[-1], "last plan reflects the last write")
+        check(1 <= solves < 20, "%d plans for 20 writes" % solves)
+        near(p["total_cost"], 150e9, "cost with L_AB metric 21 (hand-derived)")
+
+
+# ---------------------------------------------------------------------------
+
+def alarm(signum, frame):
+    raise Fail("case took longer than %d s" % CASE_TIMEOUT_S)
+
+
+def main():
+    global D
+    names = [n for n in globals() if n.startswith("test_")]
+    order = sorted(names, key=lambda n: globals()[n].__code__.co_firstlineno)
+    if len(sys.argv) > 1:
+        order = [n for n in order if any(a in n for a in sys.argv[1:])]
+    signal.signal(signal.SIGALRM, alarm)
+    failed = 0
+    D = Daemon(extra_args=["--max-body", str(MAX_BODY)])
+    try:
+        for i, name in enumerate(order, 1):
+            signal.alarm(CASE_TIMEOUT_S)
+            try:
+                # Every case but the first sees the tiny network installed.
+                if name != "test_health" and health()["model_revision"] == 0:
+                    setup_tiny(D)
+                globals()[name]()
+                print("ok %d - %s" % (i, name))
+            except Skip as exc:
+                print("ok %d - %s # SKIP %s" % (i, name, exc))
+            except Exception as exc:
+                failed += 1
+                print("not ok %d - %s" % (i, name))
+                for line in traceback.format_exception(type(exc), exc, exc.__traceback__)[-3:]:
+                    for l in line.rstrip().splitlines():
+                        print("# " + l)
+            finally:
+                signal.alarm(0)
+            sys.stdout.flush()
+        if D.proc is not None:
+            # Last case: the shared daemon stops cleanly on SIGTERM, and a
+            # sanitizer build reports nothing (its report lands in the log).
+            n = len(order) + 1
+            D.proc.terminate()
+            try:
+                rc = D.proc.wait(timeout=30)
+            except Exception:
+                rc = None
+            bad = [l for l in D.log_text().splitlines() if "Sanitizer" in l or "runtime error" in l]
+            if rc == 0 and not bad:
+                print("ok %d - daemon_exits_cleanly" % n)
+            else:
+                failed += 1
+                print("not ok %d - daemon_exits_cleanly" % n)
+                print("# exit code %r; %s" % (rc, bad[:3]))
+            order.append("daemon_exits_cleanly")
+    finally:
+        if failed and D.tmp:
+            print("# daemon log (last lines):")
+            for l in D.log_text().splitlines()[-15:]:
+                print("# " + l)
+        D.stop()
+    print("1..%d" % len(order))
+    if failed:
+        print("# %d of %d failed" % (failed, len(order)))
+    return 1 if failed else 0
+
+
+if __name__ == "__main__":
+    sys.exit(main())
