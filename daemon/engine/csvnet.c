@@ -410,7 +410,8 @@ node_row(struct ctx *c)
 {
 	char where[32];
 	struct err le = { 0 };
-	const struct field *name = fld(c, 2), *lat = fld(c, 3), *lon = fld(c, 4);
+	const struct field *name = fld(c, 2), *lat = fld(c, 3);
+	const struct field *lon = fld(c, 4);
 	double vlat = 0, vlon = 0;
 	size_t idx;
 	int r;

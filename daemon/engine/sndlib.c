@@ -494,7 +494,7 @@ link_line(struct ctx *c)
 	if ((r = id(c, lid, "link id")) != 0 ||
 	    (r = ends(c, a, b, "link")) != 0 ||
 	    (r = num(c, false, &pre, "pre-installed capacity")) != 0 ||
-	    (r = num(c, false, &pre_cost, "pre-installed capacity cost")) != 0 ||
+	    (r = num(c, false, &pre_cost, "pre-installed cost")) != 0 ||
 	    (r = num(c, false, &rcost, "routing cost")) != 0 ||
 	    (r = num(c, false, &setup, "setup cost")) != 0 ||
 	    (r = expect(c, "before the module list", "(")) != 0)
@@ -506,7 +506,8 @@ link_line(struct ctx *c)
 			break;
 		if (tok_is(&t, "("))
 			return fail(c, "unexpected \"(\" in module list");
-		if ((r = tok_num(c, &t, false, &mcap, "module capacity")) != 0 ||
+		if ((r = tok_num(c, &t, false, &mcap,
+		    "module capacity")) != 0 ||
 		    (r = num(c, false, &mcost, "module cost")) != 0)
 			return r;
 		if (nmod++ == 0)

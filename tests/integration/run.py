@@ -727,6 +727,34 @@ def test_burst_of_patches_is_coalesced():
         near(p["total_cost"], 150e9, "cost with L_AB metric 21 (hand-derived)")
 
 
+def test_config_file_and_flags():
+    """weftd -f FILE -T: the file fills options, the command line wins, an
+    unknown key is reported as file:line (docs/config.md)."""
+    import subprocess
+    import tempfile
+    weftd = os.environ.get("WEFTD", os.path.join(ROOT, "build", "weftd"))
+    with tempfile.TemporaryDirectory(prefix="weft-conf-") as tmp:
+        conf = os.path.join(tmp, "weft.conf")
+        with open(conf, "w") as f:
+            f.write("# comment\ndebounce_ms 75\nlisten 127.0.0.1:1\n\nhttp_threads 3  # trailing\n")
+        out = subprocess.run([weftd, "-f", conf, "--listen", "127.0.0.1:2", "-T"],
+                             capture_output=True, text=True, timeout=10)
+        check(out.returncode == 0, "weftd -T exits 0: %r" % out.stderr)
+        eff = dict(l.split(" ", 1) for l in out.stdout.splitlines())
+        check(eff["debounce_ms"] == "75", "file sets debounce_ms: %r" % eff)
+        check(eff["http_threads"] == "3", "file sets http_threads")
+        check(eff["listen"] == "127.0.0.1:2", "command line wins over the file")
+        check(eff["max_body_bytes"] == "33554432", "default fills the rest")
+        with open(conf, "a") as f:
+            f.write("no_such_key 1\n")
+        out = subprocess.run([weftd, "-f", conf, "-t"], capture_output=True, text=True, timeout=10)
+        check(out.returncode != 0, "unknown key is fatal")
+        check("weft.conf:6" in out.stderr and "no_such_key" in out.stderr,
+              "error names file:line and key: %r" % out.stderr)
+        out = subprocess.run([weftd, "--debounce-ms", "-5", "-t"], capture_output=True, text=True, timeout=10)
+        check(out.returncode != 0 and "outside" in out.stderr, "out-of-range value refused: %r" % out.stderr)
+
+
 # ---------------------------------------------------------------------------
 
 def alarm(signum, frame):

@@ -26,7 +26,8 @@ parser.  Relative tolerance 1e-6 throughout unless a check says otherwise.
 Exits 1 if any check failed, 2 if the daemon could not be run at all.
 
 Usage: run.py [--quick] [instance ...]   (--quick skips brain.txt)
-Environment: WEFTD (daemon binary), WEFT_SNDLIB_DIR (instance directory).
+Environment: WEFTD (daemon binary), WEFT_SNDLIB_DIR (instance directory),
+WEFT_REF_KEEP (a directory where exported MPS files are kept).
 """
 import json
 import math
@@ -83,12 +84,12 @@ class Report:
             rd = rel_diff(float(weft), float(ref))
         self.rows.append((inst, size, check, weft, ref, rd, solve_ms, ref_ms, ok, note))
         print("  [%s] %-11s %-52s weft=%s ref=%s rel=%s weft_ms=%s ref_ms=%s%s" % (
-            "ok" if ok else "FAIL", inst, check, _fmt(weft), _fmt(ref),
+            _tag(ok), inst, check, _fmt(weft), _fmt(ref),
             "-" if rd is None else "%.2e" % rd,
             "-" if solve_ms is None else "%.0f" % solve_ms,
             "-" if ref_ms is None else "%.0f" % ref_ms,
             ("  (" + note + ")") if note else ""), flush=True)
-        return ok
+        return ok is not False
 
     def compare(self, inst, size, check, weft, ref, solve_ms=None, ref_ms=None, rel=REL,
                 abs_=0.0, note=""):
@@ -96,23 +97,29 @@ class Report:
         return self.add(inst, size, check, weft, ref, ok, solve_ms, ref_ms, note)
 
     def failed(self):
-        return [r for r in self.rows if not r[8]]
+        return [r for r in self.rows if r[8] is False]
 
     def table(self):
-        hdr = ("instance", "N/L/D", "check", "weft", "reference", "rel.diff", "weft ms", "ref ms", "result")
+        hdr = ("instance", "N/L/D", "check", "weft", "reference", "rel.diff", "weft ms", "ref ms",
+               "result", "note")
         lines = []
         for r in self.rows:
             lines.append((r[0], r[1], r[2], _fmt(r[3]), _fmt(r[4]),
                           "-" if r[5] is None else "%.2e" % r[5],
                           "-" if r[6] is None else "%.0f" % r[6],
                           "-" if r[7] is None else "%.0f" % r[7],
-                          "ok" if r[8] else "FAIL"))
+                          _tag(r[8]), r[9][:70]))
         w = [max(len(h), *(len(x[i]) for x in lines)) if lines else len(h) for i, h in enumerate(hdr)]
         out = ["  ".join(h.ljust(w[i]) for i, h in enumerate(hdr))]
         out.append("  ".join("-" * w[i] for i in range(len(hdr))))
         for x in lines:
             out.append("  ".join(x[i].ljust(w[i]) for i in range(len(hdr))))
         return "\n".join(out)
+
+
+def _tag(ok):
+    """True: passed; False: failed; "info": shown, not a check."""
+    return "info" if ok == "info" else ("ok" if ok else "FAIL")
 
 
 def _fmt(v):
@@ -271,6 +278,20 @@ def check_balance_and_cost(c):
         # Reference: HiGHS U* of the unscaled instance, divided by the factor.
         c.cmp("balance max_utilization vs HiGHS U*/%g" % factor, p["max_utilization"],
               u / factor, p["solve_ms"], u_ms)
+    # Second stage of balance: with U held at U* (weft: within 1e-7
+    # relative) minimise cost.  References: HiGHS min cost with every arc
+    # capped at c x U* x (1 + 1e-7) (a lower bound) and at c x U* (an upper
+    # bound); capacities x factor and U = U* / factor give the same caps.
+    lo_pb = refmodel.from_network(net, cap_factor=u * (1 + 1e-7))
+    lo, _ = refmodel.min_cost(lo_pb)
+    hi_pb = refmodel.from_network(net, cap_factor=u)
+    hi, _ = refmodel.min_cost(hi_pb)
+    tc = p["total_cost"]
+    c.row("balance total_cost in HiGHS [cost at U*(1+1e-7), at U*]", tc, "[%.10g, %.10g]" % (lo, hi),
+          lo * (1 - REL) <= tc <= hi * (1 + REL), solve_ms=p["solve_ms"],
+          ref_ms=lo_pb.last_ms + hi_pb.last_ms,
+          note="rel. below lower %.2e, above upper %.2e" % ((lo - tc) / lo, (tc - hi) / hi))
+
     if c.name in MPS_INSTANCES:
         # The balance plan is current: export its balance stage (DESIGN.md
         # section 2 quotes the references' spread on brain's balance LP).
@@ -299,10 +320,12 @@ def check_balance_and_cost(c):
 def check_mps(c, p, stage, label):
     """Check 4: the exported LP of a stage, solved by CLP and glpsol.
 
-    Each solver's optimum must equal the stage's lp_objective.  Besides,
-    the two solvers must agree with each other, and for a "balance" stage
-    (whose LP objective is the utilisation U itself) with the stage's
-    objective.
+    Each solver's optimum must equal the stage's lp_objective to 1e-6, and
+    for a "balance" stage (whose LP objective is the utilisation U itself)
+    the stage's objective too.  Where the two solvers themselves differ by
+    more than 1e-6 (brain.txt: DESIGN.md section 2), that spread is shown
+    in an "info" row and weft's value must lie within [lowest, highest]
+    reference widened by 1e-6.
     """
     r = c.d.get("/v1/model?format=mps&stage=%d" % stage, timeout=HTTP_TIMEOUT)
     if r.status != 200:
@@ -310,36 +333,56 @@ def check_mps(c, p, stage, label):
               note=r.body[:200].decode("utf-8", "replace"))
         return
     st = p["stages"][stage]
-    want = st.get("lp_objective")
     objs = {}
     with tempfile.TemporaryDirectory(prefix="weft-ref-") as tmp:
         path = os.path.join(tmp, "stage.mps")
         with open(path, "wb") as f:
             f.write(r.body)
+        keep = os.environ.get("WEFT_REF_KEEP")
+        if keep:
+            os.makedirs(keep, exist_ok=True)
+            with open(os.path.join(keep, "%s-%s-%s.mps" % (c.name, label.replace(" ", "_"),
+                                                           st["name"])), "wb") as f:
+                f.write(r.body)
         kb = len(r.body) / 1024.0
         # Reference: COIN-OR CLP, tolerances 1e-10 (defaults are 1e-7; see
         # DESIGN.md section 2 on brain.txt); reference: glpsol, defaults.
         for name, fn in (("CLP tol 1e-10", lambda x: solvers.clp(x, tight=True)),
                          ("glpsol", solvers.glpsol)):
             try:
-                objs[name], ms = fn(path)
+                objs[name] = fn(path)
             except Exception as e:  # solver failure or timeout is a failed check
                 c.row("MPS %s '%s': %s" % (label, st["name"], name), "error", "-", False,
                       note=str(e)[:200])
-                continue
-            if want is not None:
-                c.cmp("MPS %s '%s' %.0fKiB: lp_objective vs %s" % (label, st["name"], kb, name),
-                      float(want), objs[name], st.get("ms"), ms, abs_=1e-9)
-            if st["name"] == "balance":
-                c.cmp("MPS %s '%s' %.0fKiB: stage objective vs %s" % (label, st["name"], kb, name),
-                      float(st["objective"]), objs[name], st.get("ms"), ms, abs_=1e-9,
-                      note="balance LP objective is U")
-    if want is None:
+    if not objs:
+        return
+    vals = [v for v, _ in objs.values()]
+    lo, hi = min(vals), max(vals)
+    spread = rel_diff(lo, hi)
+    if len(objs) == 2:
+        c.row("MPS %s '%s' %.0fKiB: CLP vs glpsol spread" % (label, st["name"], kb),
+              objs["CLP tol 1e-10"][0], objs["glpsol"][0], True if spread <= REL else "info",
+              ref_ms=max(ms for _, ms in objs.values()),
+              note="the references' own spread" if spread > REL else "")
+
+    def against(what, value):
+        for name, (obj, ms) in objs.items():
+            ok = abs(value - obj) <= max(REL * abs(obj), 1e-9)
+            note = ""
+            if not ok and spread > REL:
+                ok = lo - REL * abs(lo) - 1e-9 <= value <= hi + REL * abs(hi) + 1e-9
+                note = "within the references' spread %.2e" % spread if ok else \
+                    "outside the references' spread %.2e" % spread
+            c.row("MPS %s '%s': %s vs %s" % (label, st["name"], what, name), value, obj, ok,
+                  solve_ms=st.get("ms"), ref_ms=ms, note=note)
+
+    if "lp_objective" in st:
+        against("lp_objective", float(st["lp_objective"]))
+    else:
         c.row("MPS %s '%s': stage lp_objective" % (label, st["name"]), "absent", "present", False,
               note="GET /v1/plan stages[] carry no lp_objective")
-    if len(objs) == 2:
-        c.cmp("MPS %s '%s': CLP vs glpsol agree" % (label, st["name"]),
-              objs["CLP tol 1e-10"], objs["glpsol"], abs_=1e-9)
+    if st["name"] == "balance":
+        against("stage objective (U)", float(st["objective"]))
 
 
 def check_overload(c, u):

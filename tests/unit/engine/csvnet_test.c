@@ -289,6 +289,48 @@ done:
 	TEST_DONE();
 }
 
+/*
+ * The first code block under "## Example" in docs/csv-format.md must read,
+ * and its rows say: 4 nodes, 5 links (ALD-DUN down), 5 demands.
+ */
+static void
+test_doc_example(void)
+{
+	struct model *m = NULL;
+	struct err e = { 0 };
+	char *doc, *start, *end;
+	size_t len;
+	long l;
+	int r;
+
+	TEST_START("the example in docs/csv-format.md reads as it says");
+	doc = slurp("docs/csv-format.md", &len);
+	start = strstr(doc, "## Example");
+	start = start != NULL ? strstr(start, "```\n") : NULL;
+	end = start != NULL ? strstr(start + 4, "```") : NULL;
+	ASSERT_TRUE(end != NULL);
+	if (end == NULL)
+		goto done;
+	start += 4;
+	r = parse_guarded(start, (size_t)(end - start), &m, &e);
+	if (r != 0)
+		printf("# %s: %s\n", e.where, e.msg);
+	ASSERT_INT_EQ(r, 0);
+	if (m == NULL)
+		goto done;
+	ASSERT_INT_EQ(m->n_nodes, 4);
+	ASSERT_INT_EQ(m->n_links, 5);
+	ASSERT_INT_EQ(m->n_demands, 5);
+	l = model_find_link(m, "ALD-DUN");
+	ASSERT_TRUE(l >= 0 && !m->links[l].up);
+	l = model_find_link(m, "CRB-VAR");
+	ASSERT_TRUE(l >= 0 && m->links[l].capacity_bps == 10e9);
+done:
+	model_free(m);
+	free(doc);
+	TEST_DONE();
+}
+
 /* ---- writing ---- */
 
 static bool
@@ -302,7 +344,8 @@ same_model(const struct model *a, const struct model *b)
 	for (i = 0; i < a->n_nodes; i++) {
 		const struct node *x = &a->nodes[i], *y = &b->nodes[i];
 
-		if (strcmp(x->id, y->id) != 0 || x->has_coords != y->has_coords ||
+		if (strcmp(x->id, y->id) != 0 ||
+		    x->has_coords != y->has_coords ||
 		    (x->name == NULL) != (y->name == NULL) ||
 		    (x->name != NULL && strcmp(x->name, y->name) != 0) ||
 		    (x->has_coords && (x->lat != y->lat || x->lon != y->lon)))
@@ -578,6 +621,7 @@ main(void)
 	test_sample();
 	test_python_quoting();
 	test_demo();
+	test_doc_example();
 	test_round_trips();
 	test_write_error();
 	test_bad();
