@@ -1,5 +1,5 @@
 /* SPDX-License-Identifier: GPL-3.0-or-later */
-/* GET /v1/health: the daemon serves, with its model and plan revisions. */
+/* GET /v1/health: the daemon serves; revisions and the solver's state. */
 #include <stdint.h>
 
 #include "handlers.h"
@@ -11,18 +11,24 @@
 int
 h_health(struct req *rq, struct err *e)
 {
-	struct published *pub;
-	int64_t rev, plan_rev = 0;
+	struct service_status st;
 	int r;
 
-	if ((r = service_revision(rq->svc, &rev, e)) != 0)
+	if ((r = service_status(rq->svc, &st, e)) != 0)
 		return r;
-	if ((pub = service_plan_ref(rq->svc)) != NULL) {
-		plan_rev = pub->revision;
-		service_plan_unref(pub);
-	}
-	reply_packf(rq, 200, "{s:s, s:I, s:I}", "status", "ok",
-	    "model_revision", (long long)rev, "plan_revision",
-	    (long long)plan_rev);
+	/*
+	 * "current" says whether the published plan reflects the newest
+	 * model; a failed solve keeps the last good plan published.
+	 */
+	reply_packf(rq, 200, "{s:s, s:I, s:I, s:I, s:b, s:{s:b, s:I, s:s}}",
+	    "status", "ok",
+	    "model_revision", (long long)st.model_revision,
+	    "plan_revision", (long long)st.plan_revision,
+	    "plan_model_revision", (long long)st.plan_model_revision,
+	    "plan_current", st.plan_revision > 0 &&
+	    st.plan_model_revision == st.model_revision,
+	    "solver", "last_solve_failed", st.last_solve_failed,
+	    "failed_model_revision", (long long)st.failed_model_revision,
+	    "last_error", st.last_error);
 	return 0;
 }

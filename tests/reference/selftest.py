@@ -120,7 +120,8 @@ def _rows_solvers():
         refmodel.write_mps(path, c, A_ub, b_ub, A_eq, b_eq)
         for name, fn in (("CLP", lambda p: solvers.clp(p)),
                          ("CLP tight", lambda p: solvers.clp(p, tight=True)),
-                         ("glpsol", solvers.glpsol)):
+                         ("glpsol", solvers.glpsol),
+                         ("HiGHS via read_mps", solvers.highs)):
             got, _ = fn(path)
             rows.append(("%s on our MPS, triangle (hand: 0.75)" % name, got, 0.75,
                          abs(got - 0.75) <= 1e-9))

@@ -80,3 +80,120 @@ def glpsol(mps_path, timeout=300):
                         raise SolverFailed("glpsol: not optimal: %s" % line.strip())
                     return float(t[6]), ms
     raise SolverFailed("glpsol: no solution line:\n%s" % out[-2000:])
+
+
+def read_mps(path):
+    """A small reader of free MPS (as GLPK writes it): returns
+    (c, c0, A (csr), row_lo, row_hi, col_lo, col_hi) with min c'x + c0."""
+    import numpy as np
+    import scipy.sparse as sp
+    rows = {}            # name -> index, objective excluded
+    rtype = []
+    obj = None
+    cols = {}
+    entries = []         # (row, col, value)
+    cvec = {}
+    rhs = {}
+    ranges = {}
+    bounds = []
+    section = None
+    with open(path) as f:
+        for line in f:
+            if not line.strip() or line.startswith("*"):
+                continue
+            if not line[0].isspace():
+                section = line.split()[0]
+                continue
+            t = line.split()
+            if section == "ROWS":
+                if t[0] == "N":
+                    if obj is None:
+                        obj = t[1]
+                    continue
+                rows[t[1]] = len(rtype)
+                rtype.append(t[0])
+            elif section == "COLUMNS":
+                j = cols.setdefault(t[0], len(cols))
+                for k in range(1, len(t) - 1, 2):
+                    v = float(t[k + 1])
+                    if t[k] == obj:
+                        cvec[j] = cvec.get(j, 0.0) + v
+                    elif t[k] in rows:
+                        entries.append((rows[t[k]], j, v))
+            elif section in ("RHS", "RANGES"):
+                dst = rhs if section == "RHS" else ranges
+                for k in range(1, len(t) - 1, 2):
+                    dst[t[k]] = float(t[k + 1])
+            elif section == "BOUNDS":
+                bounds.append(t)
+    n, m = len(cols), len(rtype)
+    c = np.zeros(n)
+    for j, v in cvec.items():
+        c[j] = v
+    c0 = -rhs.get(obj, 0.0) if obj is not None else 0.0
+    A = sp.csr_matrix(([e[2] for e in entries], ([e[0] for e in entries], [e[1] for e in entries])),
+                      shape=(m, n))
+    lo = np.full(m, -np.inf)
+    hi = np.full(m, np.inf)
+    for name, i in rows.items():
+        b = rhs.get(name, 0.0)
+        r = ranges.get(name)
+        ty = rtype[i]
+        if ty == "E":
+            lo[i] = hi[i] = b
+            if r is not None:
+                if r > 0:
+                    hi[i] = b + r
+                else:
+                    lo[i] = b + r
+        elif ty == "L":
+            hi[i] = b
+            if r is not None:
+                lo[i] = b - abs(r)
+        elif ty == "G":
+            lo[i] = b
+            if r is not None:
+                hi[i] = b + abs(r)
+    clo = np.zeros(n)
+    chi = np.full(n, np.inf)
+    for t in bounds:
+        ty, j = t[0], cols[t[2]]
+        v = float(t[3]) if len(t) > 3 else 0.0
+        if ty == "UP":
+            chi[j] = v
+        elif ty == "LO":
+            clo[j] = v
+        elif ty == "FX":
+            clo[j] = chi[j] = v
+        elif ty == "FR":
+            clo[j], chi[j] = -np.inf, np.inf
+        elif ty == "MI":
+            clo[j] = -np.inf
+        elif ty == "PL":
+            chi[j] = np.inf
+        else:
+            raise SolverFailed("MPS bound type %s not read here" % ty)
+    return c, c0, A, lo, hi, clo, chi
+
+
+def highs(mps_path):
+    """scipy's HiGHS on a free MPS file read by read_mps(), tolerances 1e-9."""
+    import numpy as np
+    import scipy.sparse as sp
+    from scipy.optimize import linprog
+    t0 = time.time()
+    c, c0, A, lo, hi, clo, chi = read_mps(mps_path)
+    eq = np.isfinite(lo) & np.isfinite(hi) & (lo == hi)
+    up = np.isfinite(hi) & ~eq
+    dn = np.isfinite(lo) & ~eq
+    A_ub = sp.vstack([A[up], -A[dn]]).tocsr()
+    b_ub = np.concatenate([hi[up], -lo[dn]])
+    res = linprog(c, A_ub=A_ub if A_ub.shape[0] else None, b_ub=b_ub if A_ub.shape[0] else None,
+                  A_eq=A[eq] if eq.any() else None, b_eq=lo[eq] if eq.any() else None,
+                  bounds=list(zip(clo, [None if not np.isfinite(x) else x for x in chi])),
+                  method="highs", options={"primal_feasibility_tolerance": 1e-9,
+                                           "dual_feasibility_tolerance": 1e-9})
+    ms = (time.time() - t0) * 1000.0
+    if res.status != 0:
+        raise SolverFailed("HiGHS: %s" % res.message)
+    return res.fun + c0, ms
