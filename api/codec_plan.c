@@ -8,7 +8,10 @@
  * parallel to the model (routes[k] is demands[k]; arcs[2i] is link i a->b,
  * arcs[2i+1] is b->a), which this file checks before indexing, so a
  * mismatched pair gives ERR_INTERNAL instead of a wild read.  A path's
- * node list is walked from the demand's source along its arcs.
+ * node list is walked from the demand's source along its arcs.  Demands of
+ * the matrix that name nodes missing from the topology are not in the
+ * model's demands; the summary reports their count and rate from the model
+ * and adds a warning sentence, so nothing is left out silently.
  */
 
 #include <math.h>
@@ -83,6 +86,42 @@ objective_str(enum objective o)
 	return o == OBJ_BALANCE ? "balance" : "cost";
 }
 
+/*
+ * Adds unplaced_demands and unplaced_bps to summary j, and a warnings array
+ * when any demand was left out.  Clears *okp when jansson fails.
+ */
+static void
+unplaced(json_t *j, const struct model *m, bool *okp)
+{
+	json_t *warn;
+	char text[320];
+
+	if (j == NULL)
+		return;
+	if (json_object_set_new(j, "unplaced_demands",
+	    json_integer((json_int_t)m->n_unplaced)) != 0 ||
+	    json_object_set_new(j, "unplaced_bps", num(m->unplaced_bps)) != 0) {
+		*okp = false;
+		return;
+	}
+	if (m->n_unplaced == 0)
+		return;
+	/* The matrix name is at most 128 bytes, so the sentence fits. */
+	if (m->n_unplaced == 1)
+		snprintf(text, sizeof(text), "1 demand of matrix \"%s\" names "
+		    "a node not in the topology and is not planned",
+		    m->policy.matrix != NULL ? m->policy.matrix : "");
+	else
+		snprintf(text, sizeof(text), "%zu demands of matrix \"%s\" "
+		    "name nodes not in the topology and are not planned",
+		    m->n_unplaced, m->policy.matrix != NULL ?
+		    m->policy.matrix : "");
+	warn = json_array();
+	add(warn, json_string(text), okp);
+	if (json_object_set_new(j, "warnings", warn) != 0)
+		*okp = false;
+}
+
 static json_t *
 summary(const struct model *m, const struct plan *p, int64_t revision,
     bool *okp)
@@ -91,12 +130,15 @@ summary(const struct model *m, const struct plan *p, int64_t revision,
 	char key[4];
 	size_t i;
 
-	if (p == NULL)
-		return json_pack("{s:I, s:I, s:s, s:s, s:s?}", "revision",
+	if (p == NULL) {
+		j = json_pack("{s:I, s:I, s:s, s:s, s:s?}", "revision",
 		    (json_int_t)revision, "model_revision",
 		    (json_int_t)m->revision, "status", "failed", "objective",
 		    objective_str(m->policy.objective), "matrix",
 		    m->policy.matrix);
+		unplaced(j, m, okp);
+		return j;
+	}
 	byprio = json_object();
 	for (i = 0; i <= MODEL_PRIO_MAX; i++) {
 		snprintf(key, sizeof(key), "%zu", i);
@@ -109,9 +151,10 @@ summary(const struct model *m, const struct plan *p, int64_t revision,
 		add(sat, json_string(m->links[p->saturated_links[i]].id), okp);
 	stages = json_array();
 	for (i = 0; i < p->n_stages; i++)
-		add(stages, json_pack("{s:s, s:o, s:i, s:o}", "name",
+		add(stages, json_pack("{s:s, s:o, s:o, s:i, s:o}", "name",
 		    p->stages[i].name, "objective",
-		    num(p->stages[i].objective), "iterations",
+		    num(p->stages[i].objective), "lp_objective",
+		    num(p->stages[i].lp_objective), "iterations",
 		    p->stages[i].iterations, "ms", num(p->stages[i].ms)), okp);
 	j = json_pack("{s:I, s:I, s:s, s:s, s:s?, s:o, s:o, s:o, s:o, s:o, "
 	    "s:o, s:o, s:o, s:o}",
@@ -129,6 +172,7 @@ summary(const struct model *m, const struct plan *p, int64_t revision,
 	    "solve_ms", num(p->solve_ms),
 	    "saturated_links", sat,
 	    "stages", stages);
+	unplaced(j, m, okp);
 	return j;
 }
 

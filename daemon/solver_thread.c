@@ -102,8 +102,8 @@ solve_once(struct solver *s)
 	solve_opts_default(&o);
 	o.time_limit_s = s->conf.time_limit_s;
 	log_info("solve started model_revision=%lld nodes=%zu links=%zu "
-	    "demands=%zu", (long long)m->revision, m->n_nodes, m->n_links,
-	    m->n_demands);
+	    "demands=%zu unplaced=%zu", (long long)m->revision, m->n_nodes,
+	    m->n_links, m->n_demands, m->n_unplaced);
 	if ((r = engine_solve(m, &o, &p, &e)) != 0) {
 		log_err("solve failed model_revision=%lld code=%s where=%s "
 		    "msg=\"%s\"", (long long)m->revision, err_word(r), e.where,

@@ -39,17 +39,18 @@ int db_revision(struct db *db, int64_t *revp, struct err *e);
 
 /*
  * Replaces nodes and links with those of topo (demands and policy of topo
- * are ignored).  Fails with ERR_CONFLICT, naming matrix and node, when a
- * stored matrix refers to a node topo no longer has.  On success *revp is
- * the new model revision.
+ * are ignored).  Stored matrices are kept as they are, also when they name
+ * nodes topo does not have (see db_load_model()).  Returns 0 with the new
+ * model revision in *revp, or ERR_INVALID (a bad or duplicate id, a bad
+ * number) with where "nodes[i].field" or "links[i].field".
  */
 int db_put_topology(struct db *db, const struct model *topo, int64_t *revp,
     struct err *e);
 
 /*
  * Replaces (or creates) matrix name with mx.  Every node id must exist in
- * the stored topology: ERR_INVALID with where "demands[i].src|dst"
- * otherwise.  *revp is the new revision.
+ * the stored topology at the time of the put: ERR_INVALID with where
+ * "demands[i].src|dst" otherwise.  *revp is the new revision.
  */
 int db_put_matrix(struct db *db, const char *name, const struct matrix *mx,
     int64_t *revp, struct err *e);
@@ -61,7 +62,7 @@ int db_delete_matrix(struct db *db, const char *name, int64_t *revp,
 /*
  * Replaces topology and matrix name in one transaction (the importers' use):
  * topo's nodes and links, and its demands as the matrix.  Other matrices
- * that refer to nodes no longer present make it fail with ERR_CONFLICT.
+ * are kept as they are, as in db_put_topology().
  */
 int db_put_network(struct db *db, const struct model *net, const char *name,
     int64_t *revp, struct err *e);
@@ -86,7 +87,10 @@ int db_patch_link(struct db *db, const char *id, const struct link_patch *lp,
 /*
  * Reads the whole model the solver plans: topology, policy, and the
  * policy's matrix as demands (none if it does not exist), with the
- * revision, in one read transaction.  *mp is new and the caller's.
+ * revision, in one read transaction.  A demand whose src or dst is not a
+ * node of the stored topology is not in (*mp)->demands; such demands are
+ * counted in (*mp)->n_unplaced and their rates summed in unplaced_bps.
+ * *mp is new and the caller's.
  */
 int db_load_model(struct db *db, struct model **mp, struct err *e);
 

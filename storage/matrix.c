@@ -7,9 +7,12 @@
  * last put) and its demands, each with its position in the matrix as
  * ordinal so a load returns them in the caller's order.  Demands name their
  * nodes by id; db_put_matrix() looks every id up in the stored nodes inside
- * its write transaction, so a committed demand always resolves against the
- * committed topology (db_put_topology() keeps that true from the other
- * side).  Deleting a matrix deletes its demands by ON DELETE CASCADE.
+ * its write transaction, so a matrix resolves against the topology it was
+ * put against.  A later topology may drop some of those nodes: the matrix
+ * stays stored as it is (no foreign key ties demands to nodes), reads give
+ * it back whole, and loading the model leaves such demands out of the plan
+ * and counts them (storage/topology.c).  Deleting a matrix deletes its
+ * demands by ON DELETE CASCADE.
  */
 
 #include <stdio.h>

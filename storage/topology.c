@@ -7,12 +7,15 @@
  * every link and node row is deleted and the new ones inserted with their
  * position as ordinal, so loading them ORDER BY ordinal gives back the
  * caller's order (plans are arrays parallel to nodes[] and links[]).  The
- * foreign keys from links and demands to nodes are deferred to commit, so
- * the rows may be briefly dangling mid-transaction; before committing,
- * conflicts() looks for a stored demand whose node is gone and fails the
- * write with ERR_CONFLICT naming it, which rolls everything back.  Loading
- * reads topology, policy, demands and revision in one read transaction,
- * so the snapshot is one committed state.
+ * foreign keys from links to nodes are deferred to commit, so the rows may
+ * be briefly dangling mid-transaction.  Stored matrices are not touched by
+ * a replacement, and nothing ties their demands to the nodes: a matrix may
+ * name nodes the new topology lacks, so replacing the topology never fails
+ * because of an old matrix and never loses one.  Loading reads topology,
+ * policy, demands and revision in one read transaction, so the snapshot is
+ * one committed state; demands of the policy's matrix whose src or dst is
+ * not in the loaded topology are left out of the model's demands and only
+ * counted (n_unplaced, unplaced_bps), so the plan can report them.
  */
 
 #include <math.h>
@@ -227,46 +230,6 @@ replace_topology(struct db *db, const struct model *topo, struct err *e)
 	return 0;
 }
 
-/*
- * After a topology replacement, before commit: fails with ERR_CONFLICT
- * naming the first stored demand (by matrix name, then position) whose
- * node the new topology lacks.
- */
-static int
-conflicts(struct db *db, struct err *e)
-{
-	sqlite3_stmt *st = NULL;
-	const char *matrix, *node;
-	int r = ERR_INTERNAL, rc;
-
-	if ((r = db_prepare(db,
-	    "SELECT matrix, ordinal, 0, src FROM demands "
-	    "WHERE src NOT IN (SELECT id FROM nodes) "
-	    "UNION ALL "
-	    "SELECT matrix, ordinal, 1, dst FROM demands "
-	    "WHERE dst NOT IN (SELECT id FROM nodes) "
-	    "ORDER BY 1, 2, 3 LIMIT 1", &st, e)) != 0)
-		goto out;
-	rc = sqlite3_step(st);
-	if (rc == SQLITE_ROW) {
-		matrix = (const char *)sqlite3_column_text(st, 0);
-		node = (const char *)sqlite3_column_text(st, 3);
-		r = err_set(e, ERR_CONFLICT, "nodes", "matrix \"%s\" refers to "
-		    "node \"%s\", which the new topology does not have",
-		    matrix != NULL ? matrix : "", node != NULL ? node : "");
-		goto out;
-	}
-	if (rc != SQLITE_DONE) {
-		r = db_fail(db, rc, "checking matrices against the topology",
-		    e);
-		goto out;
-	}
-	r = 0;
-out:
-	sqlite3_finalize(st);
-	return r;
-}
-
 int
 db_put_topology(struct db *db, const struct model *topo, int64_t *revp,
     struct err *e)
@@ -284,7 +247,6 @@ db_put_topology(struct db *db, const struct model *topo, int64_t *revp,
 	if ((r = db_begin(db, true, e)) != 0 ||
 	    (r = db_bump_revision(db, &rev, e)) != 0 ||
 	    (r = replace_topology(db, topo, e)) != 0 ||
-	    (r = conflicts(db, e)) != 0 ||
 	    (r = db_commit(db, e)) != 0)
 		goto out;
 	*revp = rev;
@@ -353,13 +315,12 @@ db_put_network(struct db *db, const struct model *net, const char *name,
 	    (r = check_topology(net, e)) != 0 ||
 	    (r = net_matrix(net, name, &mx, e)) != 0)
 		goto out;
-	/* The named matrix is rewritten before the conflict check, so only
-	   the other matrices can conflict with the new nodes. */
+	/* The other matrices stay as they are, even those naming nodes the
+	   new topology lacks (see DESIGN). */
 	if ((r = db_begin(db, true, e)) != 0 ||
 	    (r = db_bump_revision(db, &rev, e)) != 0 ||
 	    (r = replace_topology(db, net, e)) != 0 ||
 	    (r = db_write_matrix(db, name, mx, rev, e)) != 0 ||
-	    (r = conflicts(db, e)) != 0 ||
 	    (r = db_commit(db, e)) != 0)
 		goto out;
 	*revp = rev;
@@ -544,13 +505,48 @@ out:
 	return r;
 }
 
+/*
+ * Sets m's demands to the entries of mx whose ends are both nodes of m, in
+ * mx's order, and counts the others in m->n_unplaced and m->unplaced_bps.
+ * An entry that names known nodes but is still refused (storage checked it
+ * when it was put) means the file was changed behind our back: ERR_DB.
+ */
+static int
+place(struct model *m, const struct matrix *mx, struct err *e)
+{
+	const struct matrix_entry *me;
+	struct err le;
+	char where[48];
+	size_t i;
+
+	model_clear_demands(m);
+	for (i = 0; i < mx->n; i++) {
+		me = &mx->entries[i];
+		if (model_find_node(m, me->src) < 0 ||
+		    model_find_node(m, me->dst) < 0) {
+			m->n_unplaced++;
+			m->unplaced_bps += me->rate_bps;
+			continue;
+		}
+		snprintf(where, sizeof(where), "demands[%zu]", i);
+		err_clear(&le);
+		if (model_add_demand(m, me->src, me->dst, me->rate_bps,
+		    me->priority, where, &le) != 0) {
+			model_clear_demands(m);
+			return err_set(e, ERR_DB, NULL, "stored matrix \"%s\" "
+			    "holds an unusable demand: %s",
+			    mx->name != NULL ? mx->name : "", le.msg);
+		}
+	}
+	return 0;
+}
+
 /* Reads one consistent snapshot; demands only when with_demands. */
 static int
 load(struct db *db, bool with_demands, struct model **mp, struct err *e)
 {
 	struct model *m = NULL;
 	struct matrix *mx = NULL;
-	struct err le;
 	int64_t rev;
 	int r = ERR_INTERNAL;
 
@@ -565,15 +561,8 @@ load(struct db *db, bool with_demands, struct model **mp, struct err *e)
 	if (with_demands && m->policy.matrix != NULL) {
 		if ((r = db_read_matrix(db, m->policy.matrix, &mx, e)) != 0)
 			goto out;
-		err_clear(&le);
-		/* Storage never commits a demand whose node is missing, so
-		   failing here means the file was changed behind our back. */
-		if (mx != NULL && model_set_matrix(m, mx, &le) != 0) {
-			r = err_set(e, ERR_DB, NULL, "stored matrix \"%s\" does "
-			    "not fit the stored topology: %s",
-			    m->policy.matrix, le.msg);
+		if (mx != NULL && (r = place(m, mx, e)) != 0)
 			goto out;
-		}
 	}
 	if ((r = db_commit(db, e)) != 0)
 		goto out;

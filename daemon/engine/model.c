@@ -289,6 +289,8 @@ model_copy(const struct model *m)
 	if (m->n_demands > 0)
 		memcpy(c->demands, m->demands,
 		    m->n_demands * sizeof(*c->demands));
+	c->n_unplaced = m->n_unplaced;
+	c->unplaced_bps = m->unplaced_bps;
 	c->policy = m->policy;
 	c->policy.matrix = m->policy.matrix != NULL ?
 	    xstrdup(m->policy.matrix) : NULL;
@@ -464,6 +466,8 @@ void
 model_clear_demands(struct model *m)
 {
 	m->n_demands = 0;
+	m->n_unplaced = 0;
+	m->unplaced_bps = 0;
 }
 
 /* ---- matrices ---- */
@@ -544,6 +548,8 @@ model_set_matrix(struct model *m, const struct matrix *mx, struct err *e)
 	int r;
 
 	m->n_demands = 0;
+	m->n_unplaced = 0;
+	m->unplaced_bps = 0;
 	for (i = 0; i < mx->n; i++) {
 		me = &mx->entries[i];
 		snprintf(where, sizeof(where), "demands[%zu]", i);

@@ -12,6 +12,10 @@
  * arc 2*i runs a->b and arc 2*i+1 runs b->a, each with capacity_bps.  A link
  * whose state is down has no capacity.  Rates are bit/s (double), TE metrics
  * dimensionless and positive, priorities 0 (most important) .. MODEL_PRIO_MAX.
+ * demands[] holds only demands whose ends are nodes of the model; a stored
+ * matrix may name nodes a later topology dropped, and storage counts those
+ * demands in n_unplaced and unplaced_bps instead, so a plan can say what it
+ * left out.
  * A model is not shared between threads while being built; once handed to
  * the solver it is read-only.
  */
@@ -68,6 +72,9 @@ struct model {
 	size_t n_links;
 	struct demand *demands;	/* owned array: the policy's matrix */
 	size_t n_demands;
+	size_t n_unplaced;	/* demands of the matrix naming nodes not in
+				   the topology (not in demands[]) */
+	double unplaced_bps;	/* their total rate, bit/s */
 	struct policy policy;	/* owned strings */
 	int64_t revision;	/* model revision this snapshot reflects */
 	size_t cap_nodes, cap_links, cap_demands;	/* private: array sizes */
@@ -137,7 +144,7 @@ int model_add_demand(struct model *m, const char *src, const char *dst,
 long model_find_node(const struct model *m, const char *id);
 long model_find_link(const struct model *m, const char *id);
 
-/* Removes all demands (topology and policy stay). */
+/* Removes all demands and the unplaced count (topology and policy stay). */
 void model_clear_demands(struct model *m);
 
 /* Matrices: new, free (NULL ok), append a copy of an entry. */
@@ -154,9 +161,9 @@ void matrix_add(struct matrix *mx, const char *src, const char *dst,
 int matrix_check(const struct matrix *mx, struct err *e);
 
 /*
- * Replaces m's demands with mx resolved against m's nodes.  Returns 0 or
- * ERR_INVALID naming the first unknown node ("demands[i].src").  On error
- * m's demands are left empty.
+ * Replaces m's demands with mx resolved against m's nodes and sets the
+ * unplaced count to zero.  Returns 0 or ERR_INVALID naming the first
+ * unknown node ("demands[i].src").  On error m's demands are left empty.
  */
 int model_set_matrix(struct model *m, const struct matrix *mx, struct err *e);
 

@@ -3,11 +3,15 @@
 --
 -- Node, link and demand order is the order the operator gave (ordinal):
 -- plans are arrays parallel to the model, so the order must survive a
--- round trip.  Links and demands refer to nodes by id; those references are
--- checked at commit (DEFERRABLE INITIALLY DEFERRED) because a topology
--- replacement deletes and re-inserts every node inside one transaction.
--- storage/ checks every reference itself first and names the culprit; the
--- foreign keys are the backstop.
+-- round trip.  Links refer to nodes by id; those references are checked at
+-- commit (DEFERRABLE INITIALLY DEFERRED) because a topology replacement
+-- deletes and re-inserts every node inside one transaction.  storage/
+-- checks every reference itself first and names the culprit; the foreign
+-- keys are the backstop.  Demands name nodes by id too, but without a
+-- foreign key: a stored matrix outlives the topology it was written
+-- against, so replacing the topology never fails or loses a matrix.  A
+-- matrix is checked against the topology when it is put, and a demand
+-- whose node is gone is left out of planning when the model is loaded.
 
 CREATE TABLE meta (
 	key	TEXT PRIMARY KEY NOT NULL,
@@ -51,17 +55,13 @@ CREATE TABLE demands (
 	matrix		TEXT NOT NULL REFERENCES matrices (name)
 			    ON DELETE CASCADE,
 	ordinal		INTEGER NOT NULL,
-	src		TEXT NOT NULL REFERENCES nodes (id)
-			    DEFERRABLE INITIALLY DEFERRED,
-	dst		TEXT NOT NULL REFERENCES nodes (id)
-			    DEFERRABLE INITIALLY DEFERRED,
+	src		TEXT NOT NULL,	-- a node id; no foreign key (above)
+	dst		TEXT NOT NULL,
 	rate_bps	REAL NOT NULL CHECK (rate_bps >= 0),
 	priority	INTEGER NOT NULL CHECK (priority BETWEEN 0 AND 7),
 	PRIMARY KEY (matrix, ordinal),
 	CHECK (src <> dst)
 );
-CREATE INDEX demands_src ON demands (src);
-CREATE INDEX demands_dst ON demands (dst);
 
 -- One row at most (id 1); no row means the default policy.
 CREATE TABLE policy (

@@ -65,8 +65,7 @@ MPS_INSTANCES = ("abilene", "germany50", "janos-us-ca", "brain")
 PRIO_INSTANCES = ("germany50", "janos-us-ca", "atlanta")
 NX_INSTANCES = ("abilene", "atlanta")
 # One matrix name for every instance: an import replaces the topology and
-# this matrix, and weft refuses (409) a topology that another stored
-# matrix still refers to.
+# this matrix, so the database holds only the instance under test.
 MATRIX = "ref"
 
 

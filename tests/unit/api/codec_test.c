@@ -512,6 +512,7 @@ test_plan_render(void)
 	snprintf(p->stages[0].name, sizeof(p->stages[0].name), "cost");
 	p->stages[0].objective = 0.8;
 	p->stages[0].iterations = 3;
+	p->stages[0].lp_objective = 0.25;
 	r = codec_plan_render(m, p, 12, &s, &slen, &rt, &rlen, &ld, &llen);
 	ASSERT_INT_EQ(r, 0);
 	ASSERT_STR_EQ(s, "{\"revision\":12,\"model_revision\":7,\"status\":"
@@ -522,7 +523,8 @@ test_plan_render(void)
 	    "{\"0\":0.0,\"1\":0.0,\"2\":0.0,\"3\":0.0,\"4\":0.0,\"5\":0.0,"
 	    "\"6\":0.0,\"7\":0.0},\"solve_ms\":0.0,\"saturated_links\":[],"
 	    "\"stages\":[{\"name\":\"cost\",\"objective\":0.80000000000000004,"
-	    "\"iterations\":3,\"ms\":0.0}]}");
+	    "\"lp_objective\":0.25,\"iterations\":3,\"ms\":0.0}],"
+	    "\"unplaced_demands\":0,\"unplaced_bps\":0.0}");
 	ASSERT_STR_EQ(rt, "{\"revision\":12,\"model_revision\":7,\"routes\":"
 	    "[{\"src\":\"A\",\"dst\":\"C\",\"priority\":0,\"rate_bps\":"
 	    "4000000000.0,\"carried_bps\":4000000000.0,\"unserved_bps\":0.0,"
@@ -552,11 +554,38 @@ test_plan_render(void)
 	p->routes[0].paths[0].arcs[1] = 2;
 	TEST_DONE();
 
+	/*
+	 * Two demands of 1 and 2 Gbit/s the topology cannot place (as
+	 * storage would count them): 2 demands, 3e9 bit/s, one warning.
+	 */
+	TEST_START("reports unplaced demands with a warning");
+	m->policy.matrix = xstrdup("peak");
+	m->n_unplaced = 2;
+	m->unplaced_bps = 3e9;
+	r = codec_plan_render(m, p, 12, &s, &slen, &rt, &rlen, &ld, &llen);
+	ASSERT_INT_EQ(r, 0);
+	ASSERT_TRUE(s != NULL && strstr(s, "\"unplaced_demands\":2,"
+	    "\"unplaced_bps\":3000000000.0,\"warnings\":[\"2 demands of "
+	    "matrix \\\"peak\\\" name nodes not in the topology and are not "
+	    "planned\"]}") != NULL);
+	/* The planned demand is still the only route. */
+	ASSERT_TRUE(rt != NULL && strstr(rt, "\"routes\":[{\"src\":\"A\","
+	    "\"dst\":\"C\"") != NULL);
+	free(s);
+	free(rt);
+	free(ld);
+	m->n_unplaced = 0;
+	m->unplaced_bps = 0;
+	free(m->policy.matrix);
+	m->policy.matrix = NULL;
+	TEST_DONE();
+
 	TEST_START("renders a failed solve as status failed");
 	r = codec_plan_render(m, NULL, 13, &s, &slen, &rt, &rlen, &ld, &llen);
 	ASSERT_INT_EQ(r, 0);
 	ASSERT_STR_EQ(s, "{\"revision\":13,\"model_revision\":7,\"status\":"
-	    "\"failed\",\"objective\":\"cost\",\"matrix\":null}");
+	    "\"failed\",\"objective\":\"cost\",\"matrix\":null,"
+	    "\"unplaced_demands\":0,\"unplaced_bps\":0.0}");
 	ASSERT_STR_EQ(rt, "{\"revision\":13,\"model_revision\":7,"
 	    "\"routes\":[]}");
 	free(s);

@@ -590,33 +590,115 @@ test_unknown_node(void)
 	TEST_DONE();
 }
 
+/*
+ * "day" (matrix_day()) against topo_three(), which lacks "mire":
+ *   mire>zeta   3e9    p0  names mire: unplaced
+ *   alder>birch 0.5e9  p3  placed
+ *   zeta>alder  1e9    p1  placed
+ *   birch>mire  0.25e9 p7  names mire: unplaced
+ * so 2 demands placed, 2 unplaced with 3e9 + 0.25e9 = 3.25e9 bit/s.  The
+ * sum is also asked of the sqlite3 shell, which reads the file directly.
+ */
 static void
-test_topology_conflict(void)
+test_topology_keeps_matrices(void)
 {
-	struct model *three = topo_three(), *m = NULL;
+	struct model *three = topo_three(), *four = topo_four();
+	struct model *m = NULL, *c = NULL;
+	struct matrix *mx = NULL;
+	struct policy p;
 	struct db *db = NULL;
 	struct err e = { 0 };
 	char path[128];
 	int64_t rev = 99;
 
-	TEST_START("rejects a topology dropping a node a stored matrix uses");
+	TEST_START("a topology dropping a node a stored matrix uses is stored; "
+	    "the matrix is kept whole");
 	db = open_stocked(path, sizeof(path));
 	ASSERT_TRUE(db != NULL);
-	ASSERT_INT_EQ(db_put_topology(db, three, &rev, &e), ERR_CONFLICT);
-	ASSERT_STR_EQ(e.where, "nodes");
-	ASSERT_TRUE(strstr(e.msg, "\"day\"") != NULL);
-	ASSERT_TRUE(strstr(e.msg, "\"mire\"") != NULL);
-	ASSERT_INT_EQ(rev, 0);
-	ASSERT_INT_EQ(revision(db), 2);
+	ASSERT_INT_EQ(db_put_topology(db, three, &rev, &e), 0);
+	ASSERT_INT_EQ(rev, 3);
 	ASSERT_SHELL(path, "SELECT group_concat(id) FROM (SELECT id FROM nodes "
-	    "ORDER BY ordinal);", "zeta,alder,mire,birch");
-	ASSERT_SHELL(path, "SELECT count(*) FROM links;", "3");
-	ASSERT_INT_EQ(db_load_topology(db, &m, NULL), 0);
-	if (m != NULL)
-		ASSERT_INT_EQ(m->n_nodes, 4);
-	model_free(m);
+	    "ORDER BY ordinal);", "zeta,alder,birch");
+	ASSERT_SHELL(path, "SELECT count(*) FROM links;", "1");
+	/* "day" is untouched: rows, order, rates and its revision. */
+	ASSERT_SHELL(path, "SELECT group_concat(src || '>' || dst || '@' || "
+	    "priority || '=' || rate_bps) FROM (SELECT * FROM demands "
+	    "WHERE matrix = 'day' ORDER BY ordinal);",
+	    "mire>zeta@0=3000000000.0,alder>birch@3=500000000.0,"
+	    "zeta>alder@1=1000000000.0,birch>mire@7=250000000.0");
+	ASSERT_SHELL(path, "SELECT updated_revision FROM matrices "
+	    "WHERE name = 'day';", "2");
+	ASSERT_SHELL(path, "SELECT count(*), sum(rate_bps) FROM demands "
+	    "WHERE matrix = 'day' AND (src NOT IN (SELECT id FROM nodes) OR "
+	    "dst NOT IN (SELECT id FROM nodes));", "2|3250000000.0");
 	ASSERT_SHELL(path, "PRAGMA foreign_key_check;", "");
+	ASSERT_INT_EQ(db_load_matrix(db, "day", &mx, &e), 0);
+	if (mx != NULL) {
+		ASSERT_INT_EQ(mx->n, 4);
+		if (mx->n == 4) {
+			ASSERT_STR_EQ(mx->entries[0].src, "mire");
+			ASSERT_STR_EQ(mx->entries[3].dst, "mire");
+			ASSERT_DBL_NEAR(mx->entries[3].rate_bps, 0.25e9, 0);
+			ASSERT_INT_EQ(mx->entries[3].priority, 7);
+		}
+	}
+	matrix_free(mx);
+	mx = NULL;
+
+	/* A new matrix is still checked against the topology now stored. */
+	err_clear(&e);
+	mx = matrix_new("night");
+	matrix_add(mx, "mire", "birch", 1e6, 0);
+	ASSERT_INT_EQ(db_put_matrix(db, "night", mx, &rev, &e), ERR_INVALID);
+	ASSERT_STR_EQ(e.where, "demands[0].src");
+	ASSERT_INT_EQ(revision(db), 3);
+	matrix_free(mx);
+	mx = NULL;
+
+	/* The snapshot plans the two demands it can place, counts the rest. */
+	err_clear(&e);
+	policy_default(&p);
+	p.matrix = "day";
+	ASSERT_INT_EQ(db_put_policy(db, &p, &rev, &e), 0);
+	ASSERT_INT_EQ(rev, 4);
+	ASSERT_INT_EQ(db_load_model(db, &m, &e), 0);
+	if (m != NULL) {
+		ASSERT_INT_EQ(m->revision, 4);
+		ASSERT_INT_EQ(m->n_nodes, 3);
+		ASSERT_INT_EQ(m->n_demands, 2);
+		ASSERT_INT_EQ(m->n_unplaced, 2);
+		ASSERT_DBL_NEAR(m->unplaced_bps, 3.25e9, 0);
+		if (m->n_demands == 2) {
+			/* zeta 0, alder 1, birch 2; "day" order kept. */
+			ASSERT_INT_EQ(m->demands[0].src, 1);
+			ASSERT_INT_EQ(m->demands[0].dst, 2);
+			ASSERT_DBL_NEAR(m->demands[0].rate_bps, 0.5e9, 0);
+			ASSERT_INT_EQ(m->demands[0].priority, 3);
+			ASSERT_INT_EQ(m->demands[1].src, 0);
+			ASSERT_INT_EQ(m->demands[1].dst, 1);
+			ASSERT_DBL_NEAR(m->demands[1].rate_bps, 1e9, 0);
+			ASSERT_INT_EQ(m->demands[1].priority, 1);
+		}
+		c = model_copy(m);
+		ASSERT_INT_EQ(c->n_unplaced, 2);
+		ASSERT_DBL_NEAR(c->unplaced_bps, 3.25e9, 0);
+		model_free(c);
+	}
+	model_free(m);
+	m = NULL;
+
+	/* With "mire" back, all four demands are planned again. */
+	ASSERT_INT_EQ(db_put_topology(db, four, &rev, &e), 0);
+	ASSERT_INT_EQ(rev, 5);
+	ASSERT_INT_EQ(db_load_model(db, &m, &e), 0);
+	if (m != NULL) {
+		ASSERT_INT_EQ(m->n_demands, 4);
+		ASSERT_INT_EQ(m->n_unplaced, 0);
+		ASSERT_DBL_NEAR(m->unplaced_bps, 0, 0);
+	}
+	model_free(m);
 	model_free(three);
+	model_free(four);
 	db_close(db);
 	TEST_DONE();
 }
@@ -809,7 +891,8 @@ test_put_network(void)
 	char path[128];
 	int64_t rev = 99;
 
-	TEST_START("put_network replaces topology and matrix atomically");
+	TEST_START("put_network replaces topology and one matrix, keeps the "
+	    "others");
 	db = open_stocked(path, sizeof(path));
 	ASSERT_TRUE(db != NULL);
 	matrix_add(night, "mire", "birch", 2e6, 2);
@@ -818,34 +901,38 @@ test_put_network(void)
 	model_add_demand(net, "zeta", "alder", 4e8, 1, "demands", NULL);
 	model_add_demand(net, "birch", "zeta", 6e8, 0, "demands", NULL);
 
-	/* "night" still needs "mire": all of it fails, old "day" stays. */
-	ASSERT_INT_EQ(db_put_network(db, net, "day", &rev, &e), ERR_CONFLICT);
-	ASSERT_STR_EQ(e.where, "nodes");
-	ASSERT_TRUE(strstr(e.msg, "\"night\"") != NULL);
-	ASSERT_INT_EQ(rev, 0);
-	ASSERT_INT_EQ(revision(db), 3);
-	ASSERT_SHELL(path, "SELECT count(*) FROM nodes;", "4");
-	ASSERT_SHELL(path, "SELECT count(*) FROM links;", "3");
-	ASSERT_SHELL(path, "SELECT group_concat(src || '>' || dst) FROM "
-	    "(SELECT * FROM demands WHERE matrix = 'day' ORDER BY ordinal);",
-	    "mire>zeta,alder>birch,zeta>alder,birch>mire");
-	ASSERT_SHELL(path, "SELECT updated_revision FROM matrices "
-	    "WHERE name = 'day';", "2");
-
-	/* Without "night" it goes through in one revision, although the
-	   old "day" used "mire" too: it is replaced in the same write. */
-	err_clear(&e);
-	ASSERT_INT_EQ(db_delete_matrix(db, "night", &rev, &e), 0);
-	ASSERT_INT_EQ(rev, 4);
+	/*
+	 * "night" names "mire", which the new topology lacks: the write goes
+	 * through in one revision all the same, "day" (which used "mire"
+	 * too) is replaced and "night" is kept as it was.
+	 */
 	ASSERT_INT_EQ(db_put_network(db, net, "day", &rev, &e), 0);
-	ASSERT_INT_EQ(rev, 5);
+	ASSERT_INT_EQ(rev, 4);
 	ASSERT_SHELL(path, "SELECT group_concat(id) FROM (SELECT id FROM nodes "
 	    "ORDER BY ordinal);", "zeta,alder,birch");
 	ASSERT_SHELL(path, "SELECT group_concat(src || '>' || dst || '@' || "
 	    "priority) FROM (SELECT * FROM demands WHERE matrix = 'day' "
 	    "ORDER BY ordinal);", "zeta>alder@1,birch>zeta@0");
 	ASSERT_SHELL(path, "SELECT updated_revision FROM matrices "
-	    "WHERE name = 'day';", "5");
+	    "WHERE name = 'day';", "4");
+	ASSERT_SHELL(path, "SELECT group_concat(src || '>' || dst || '@' || "
+	    "priority || '=' || rate_bps) FROM demands WHERE matrix = "
+	    "'night';", "mire>birch@2=2000000.0");
+	ASSERT_SHELL(path, "SELECT updated_revision FROM matrices "
+	    "WHERE name = 'night';", "3");
+
+	/* Planning "night": its one demand (2e6 bit/s) cannot be placed. */
+	policy_default(&p);
+	p.matrix = "night";
+	ASSERT_INT_EQ(db_put_policy(db, &p, &rev, &e), 0);
+	ASSERT_INT_EQ(db_load_model(db, &m, &e), 0);
+	if (m != NULL) {
+		ASSERT_INT_EQ(m->n_demands, 0);
+		ASSERT_INT_EQ(m->n_unplaced, 1);
+		ASSERT_DBL_NEAR(m->unplaced_bps, 2e6, 0);
+	}
+	model_free(m);
+	m = NULL;
 
 	policy_default(&p);
 	p.matrix = "day";
@@ -854,6 +941,7 @@ test_put_network(void)
 	if (m != NULL) {
 		assert_same_topology(net, m);
 		ASSERT_INT_EQ(m->n_demands, 2);
+		ASSERT_INT_EQ(m->n_unplaced, 0);
 		if (m->n_demands == 2) {
 			/* zeta 0, alder 1, birch 2 */
 			ASSERT_INT_EQ(m->demands[1].src, 2);
@@ -985,7 +1073,7 @@ main(void)
 	test_policy_missing_matrix();
 	test_revision_counting();
 	test_unknown_node();
-	test_topology_conflict();
+	test_topology_keeps_matrices();
 	test_topology_invalid();
 	test_patch_link();
 	test_unknown_link();
