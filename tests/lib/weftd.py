@@ -11,12 +11,14 @@ import os
 import shutil
 import socket
 import subprocess
+import sys
 import tempfile
 import time
 import urllib.error
 import urllib.request
 
 ROOT = os.path.dirname(os.path.dirname(os.path.dirname(os.path.abspath(__file__))))
+sys.path.insert(0, os.path.dirname(os.path.abspath(__file__)))
 
 
 def free_port():
@@ -106,17 +108,51 @@ class Daemon:
     def put(self, path, body, **kw):
         return self.request("PUT", path, body, **kw)
 
-    def wait_plan(self, model_revision, timeout=300.0):
-        """Polls GET /v1/plan until it reflects model_revision or newer."""
+    def wait_plan(self, model_revision, timeout=300.0, verify=True):
+        """Polls GET /v1/plan until it reflects model_revision or newer.
+        With verify, the plan is also passed through the independent plan
+        checker (tests/lib/plancheck.py) before it is returned."""
         end = time.time() + timeout
         while time.time() < end:
             r = self.get("/v1/plan")
             if r.status == 200:
                 p = r.json()
                 if p["model_revision"] >= model_revision:
+                    if verify:
+                        self.verify_plan()
                     return p
             time.sleep(0.05)
         raise RuntimeError("no plan for model revision %d within %.0f s" % (model_revision, timeout))
+
+    def verify_plan(self, attempts=20):
+        """Runs the plan checker on the published plan.  The documents are
+        fetched one by one, so they are re-fetched until plan, routes and
+        loads name one revision and the model has not moved meanwhile.
+        Raises AssertionError with the checker's findings."""
+        import plancheck
+        for _ in range(attempts):
+            h0 = self.get("/v1/health").json()
+            plan = self.get("/v1/plan").json()
+            routes = self.get("/v1/plan/routes").json()
+            loads = self.get("/v1/plan/loads").json()
+            topo = self.get("/v1/topology").json()
+            policy = self.get("/v1/policy").json()
+            name = plan.get("matrix") or policy.get("matrix")
+            demands = []
+            if name:
+                m = self.get("/v1/matrices/" + name)
+                if m.status == 200:
+                    demands = m.json()["demands"]
+            h1 = self.get("/v1/health").json()
+            if (plan["revision"] == routes["revision"] == loads["revision"]
+                    and h0["model_revision"] == h1["model_revision"] == plan["model_revision"]):
+                fails = plancheck.check(topo, demands, policy, plan, routes, loads)
+                if fails:
+                    raise AssertionError("plan %d fails the plan checker: %s"
+                                         % (plan["revision"], "; ".join(fails[:5])))
+                return plan
+            time.sleep(0.1)
+        return None     # the model kept moving; nothing consistent to check
 
     def stop(self):
         if self.proc is not None:
