@@ -391,7 +391,10 @@ service_export_model(struct service *svc, enum export_format format,
 	o.export_stage = stage;
 	o.export_format = format;
 	/* Re-solving the published snapshot reproduces the stages' LPs. */
-	if ((r = engine_solve(pub->model, &o, &p, e)) != 0)
+	r = engine_solve(pub->model, &o, &p, e);
+	/* HTTP threads solve only here: give GLPK's thread state back. */
+	engine_thread_done();
+	if (r != 0)
 		goto out;
 	r = read_file(path, textp, lenp, e);
 out:

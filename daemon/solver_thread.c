@@ -125,6 +125,7 @@ run(void *arg)
 
 	while (wait_change(s))
 		solve_once(s);
+	engine_thread_done();
 	return NULL;
 }
 

@@ -339,7 +339,8 @@ share(struct decomp *d, size_t lo, size_t hi, const size_t *dem,
 		pp = &rt->paths[rt->n_paths++];
 		pp->n_arcs = pc->len;
 		pp->arcs = xcalloc(pc->len, sizeof(*pp->arcs));
-		memcpy(pp->arcs, d->pbuf + pc->off, pc->len * sizeof(*pp->arcs));
+		memcpy(pp->arcs, d->pbuf + pc->off,
+		    pc->len * sizeof(*pp->arcs));
 		pp->rate_bps = d->gives[g].rate * scale;
 		rt->carried_bps += pp->rate_bps;
 	}

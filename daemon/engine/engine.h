@@ -12,13 +12,17 @@
  * The node-arc formulation aggregates demands per source (one flow
  * variable per source and arc).  Rates are scaled so the largest arc
  * capacity is 1 LP unit before GLPK sees them.  Stages, each a GLPK simplex
- * warm-started from the previous basis:
- *   1. admission, when not all traffic fits within capacity x headroom:
- *      for priority 0, 1, ...: maximise carried traffic of that class,
- *      then fix it (within a tiny tolerance);
- *   2. balance only: minimise U, the max utilisation (load <= U x cap),
- *      then fix U within policy.balance_tol;
- *   3. minimise sum TE metric x flow.
+ * warm-started from the previous basis (form_arc.c has the detail):
+ *   1. admit: minimise (nodes x unserved + cost) from a basis of
+ *      shortest-path trees; when nothing is left unserved, that is already
+ *      the cost optimum with all traffic carried.  Otherwise, for priority
+ *      0, 1, ...: maximise the carried traffic of that class exactly, then
+ *      fix it (within a tiny tolerance); saturated links and shadow prices
+ *      come from these stages;
+ *   2. balance only: find the smallest max utilisation U at which the
+ *      admitted traffic fits (Newton's method on U over the same LP), then
+ *      cap U at U*(1 + policy.balance_tol);
+ *   3. minimise sum TE metric x flow (cost).
  * The plan's routes come from decomposing each source's arc flows into
  * paths; loads, costs and totals are recomputed from those paths.
  */
@@ -59,5 +63,12 @@ int engine_solve(const struct model *m, const struct solve_opts *o,
 
 /* Checks a model without solving it: 0 or ERR_INVALID with detail. */
 int engine_check(const struct model *m, struct err *e);
+
+/*
+ * Frees the solver library's per-thread state of the calling thread.  A
+ * thread that called engine_solve() calls this before it exits (or after
+ * a one-off solve); a later engine_solve() on the thread starts afresh.
+ */
+void engine_thread_done(void);
 
 #endif /* WEFT_ENGINE_ENGINE_H */

@@ -273,6 +273,73 @@ lp_set_col_stat(struct lp *lp, int j, enum lp_vstat s)
 }
 
 void
+lp_set_col_entries(struct lp *lp, int j, int n, const int *rows,
+    const double *vals)
+{
+	int m = glp_get_num_rows(lp->P);
+	int *ia, t;
+	double *ar;
+
+	assert(j >= 0 && j < glp_get_num_cols(lp->P) && n >= 0);
+	ia = xreallocarray(NULL, (size_t)n + 1, sizeof(*ia));
+	ar = xreallocarray(NULL, (size_t)n + 1, sizeof(*ar));
+	for (t = 0; t < n; t++) {
+		assert(rows[t] >= 0 && rows[t] < m);
+		assert(isfinite(vals[t]));
+		ia[t + 1] = rows[t] + 1;
+		ar[t + 1] = vals[t];
+	}
+	glp_set_mat_col(lp->P, j + 1, n, ia, ar);
+	free(ia);
+	free(ar);
+}
+
+struct lp_basis {
+	int m, n;
+	unsigned char *row, *col;	/* GLPK statuses */
+};
+
+struct lp_basis *
+lp_basis_save(const struct lp *lp)
+{
+	struct lp_basis *b = xcalloc(1, sizeof(*b));
+	int i;
+
+	b->m = glp_get_num_rows(lp->P);
+	b->n = glp_get_num_cols(lp->P);
+	b->row = xcalloc((size_t)b->m + 1, 1);
+	b->col = xcalloc((size_t)b->n + 1, 1);
+	for (i = 1; i <= b->m; i++)
+		b->row[i] = (unsigned char)glp_get_row_stat(lp->P, i);
+	for (i = 1; i <= b->n; i++)
+		b->col[i] = (unsigned char)glp_get_col_stat(lp->P, i);
+	return b;
+}
+
+void
+lp_basis_load(struct lp *lp, const struct lp_basis *b)
+{
+	int i;
+
+	assert(b->m <= glp_get_num_rows(lp->P));
+	assert(b->n <= glp_get_num_cols(lp->P));
+	for (i = 1; i <= b->m; i++)
+		glp_set_row_stat(lp->P, i, b->row[i]);
+	for (i = 1; i <= b->n; i++)
+		glp_set_col_stat(lp->P, i, b->col[i]);
+}
+
+void
+lp_basis_free(struct lp_basis *b)
+{
+	if (b == NULL)
+		return;
+	free(b->row);
+	free(b->col);
+	free(b);
+}
+
+void
 lp_scale(struct lp *lp)
 {
 	glp_scale_prob(lp->P, GLP_SF_AUTO);
@@ -318,8 +385,13 @@ simplex(struct lp *lp, int meth, const struct lp_params *p, double t0)
 	parm.meth = meth;
 	parm.presolve = GLP_OFF;
 	parm.out_frq = 5000;
-	if (getenv("TOLB")) parm.tol_bnd = atof(getenv("TOLB"));
-	if (getenv("TOLD")) parm.tol_dj = atof(getenv("TOLD"));
+	/*
+	 * Rates span ten orders of magnitude (1 bit/s demands on 1e10 bit/s
+	 * links, 1e-10 LP units): GLPK's default bound tolerance (1e-7)
+	 * would let small demands' flows go negative and vanish.  1e-10
+	 * keeps them; measured on brain-sized LPs, it costs no iterations.
+	 */
+	parm.tol_bnd = 1e-10;
 	if (p->time_limit_s > 0) {
 		left = p->time_limit_s * 1e3 - (now_ms() - t0);
 		if (left < 1)
@@ -390,6 +462,13 @@ lp_row_dual(const struct lp *lp, int i)
 {
 	assert(i >= 0 && i < glp_get_num_rows(lp->P));
 	return glp_get_row_dual(lp->P, i + 1);
+}
+
+double
+lp_col_dual(const struct lp *lp, int j)
+{
+	assert(j >= 0 && j < glp_get_num_cols(lp->P));
+	return glp_get_col_dual(lp->P, j + 1);
 }
 
 double

@@ -102,7 +102,7 @@ int lp_add_row(struct lp *lp, int n, const int *cols, const double *vals,
 /* Where a variable sits in a basis. */
 enum lp_vstat {
 	LP_BASIC = 0,
-	LP_NONBASIC = 1,	/* at its lower bound if it has one, else upper */
+	LP_NONBASIC = 1,	/* at its lower bound if any, else upper */
 };
 
 /*
@@ -114,6 +114,23 @@ enum lp_vstat {
  */
 void lp_set_row_stat(struct lp *lp, int i, enum lp_vstat s);
 void lp_set_col_stat(struct lp *lp, int j, enum lp_vstat s);
+
+/*
+ * Sets the entries of column j (which has none yet) to n (row, value)
+ * pairs with distinct rows.
+ */
+void lp_set_col_entries(struct lp *lp, int j, int n, const int *rows,
+    const double *vals);
+
+/*
+ * A saved basis: the statuses of all rows and columns.  lp_basis_load()
+ * restores it into the same lp, which may have gained rows and columns
+ * since (those keep their statuses: new rows basic, new columns not).
+ */
+struct lp_basis;
+struct lp_basis *lp_basis_save(const struct lp *lp);
+void lp_basis_load(struct lp *lp, const struct lp_basis *b);
+void lp_basis_free(struct lp_basis *b);
 
 /* Applies GLPK's automatic scaling; call once, after the matrix is loaded. */
 void lp_scale(struct lp *lp);
@@ -133,6 +150,7 @@ int lp_solve(struct lp *lp, const struct lp_params *p,
 double lp_col_value(const struct lp *lp, int j);
 double lp_row_value(const struct lp *lp, int i);
 double lp_row_dual(const struct lp *lp, int i);
+double lp_col_dual(const struct lp *lp, int j);	/* reduced cost */
 double lp_obj_value(const struct lp *lp);
 
 /*
