@@ -318,6 +318,31 @@ name_all(struct arcform *f)
 
 /* ---- stages ---- */
 
+/* Whether the next stage's LP is the one o->export_stage asks for. */
+static bool
+wants_export(const struct arcform *f, bool last)
+{
+	int idx = (int)f->p->n_stages;
+
+	return f->o->export_path != NULL && !f->exported &&
+	    (f->o->export_stage == idx || (f->o->export_stage < 0 && last));
+}
+
+/* Writes the LP as it stands to o->export_path. */
+static int
+export_lp(struct arcform *f, const char *name, struct err *e)
+{
+	name_all(f);
+	if (lp_write(f->lp, f->o->export_path,
+	    f->o->export_format == EXPORT_MPS ? LP_FMT_MPS : LP_FMT_LP,
+	    f->o->verbose) != 0)
+		return err_set(e, ERR_IO, NULL,
+		    "cannot write the LP of stage %s to %s", name,
+		    f->o->export_path);
+	f->exported = true;
+	return 0;
+}
+
 /*
  * Solves the LP as it stands, for stage name (the plan's next stage).
  * may_export: the LP may be the one o->export_stage asks for; last marks
@@ -329,20 +354,11 @@ run_lp(struct arcform *f, const char *name, enum lp_method method,
     bool may_export, bool last, struct lp_result *res, struct err *e)
 {
 	struct lp_params prm;
-	int idx, r;
+	int r;
 
-	idx = (int)f->p->n_stages;
-	if (may_export && f->o->export_path != NULL && !f->exported &&
-	    (f->o->export_stage == idx || (f->o->export_stage < 0 && last))) {
-		name_all(f);
-		if (lp_write(f->lp, f->o->export_path,
-		    f->o->export_format == EXPORT_MPS ? LP_FMT_MPS : LP_FMT_LP,
-		    f->o->verbose) != 0)
-			return err_set(e, ERR_IO, NULL,
-			    "cannot write the LP of stage %s to %s", name,
-			    f->o->export_path);
-		f->exported = true;
-	}
+	if (may_export && wants_export(f, last) &&
+	    (r = export_lp(f, name, e)) != 0)
+		return r;
 	memset(&prm, 0, sizeof(prm));
 	prm.method = method;
 	prm.verbose = f->o->verbose;
@@ -375,7 +391,7 @@ run_lp(struct arcform *f, const char *name, enum lp_method method,
 /* Appends a stage to the plan. */
 static int
 record(struct arcform *f, const char *name, double objective,
-    int iterations, double ms, struct err *e)
+    double lp_objective, int iterations, double ms, struct err *e)
 {
 	struct plan_stage *st;
 
@@ -384,6 +400,7 @@ record(struct arcform *f, const char *name, double objective,
 	st = &f->p->stages[f->p->n_stages++];
 	snprintf(st->name, sizeof(st->name), "%s", name);
 	st->objective = objective;
+	st->lp_objective = lp_objective;
 	st->iterations = iterations;
 	st->ms = ms;
 	return 0;
@@ -404,8 +421,8 @@ stage(struct arcform *f, const char *name, enum lp_method method,
 	if ((r = run_lp(f, name, method, true, last, &res, e)) != 0)
 		return r;
 	*objp = res.objective;
-	return record(f, name, res.objective * unit, res.iterations, res.ms,
-	    e);
+	return record(f, name, res.objective * unit, res.objective,
+	    res.iterations, res.ms, e);
 }
 
 /* Pins each u column of class prio (all classes: -1) where it is now. */
@@ -801,6 +818,37 @@ u_lower_bound(const struct arcform *f)
 }
 
 /*
+ * Writes the balance stage as the LP it stands for: minimise U with the
+ * admission decided (all demand carried, or each class held at its
+ * admitted optimum) and U in [0, h].  Its optimum is the U that Newton's
+ * method finds, so a model exported for inspection can be solved by any
+ * LP solver and compared with the stage's lp_objective.  The LP is put
+ * back as it was afterwards.
+ */
+static int
+export_balance(struct arcform *f, struct err *e)
+{
+	const struct model *m = f->m;
+	size_t k;
+	int r;
+
+	lp_clear_obj(f->lp);
+	lp_set_obj(f->lp, f->ucol_U, 1);
+	lp_set_col_bounds(f->lp, f->ucol_U, 0, f->headroom);
+	if (f->all_fit)
+		for (k = 0; k < m->n_demands; k++)
+			if (f->ucol[k] >= 0)
+				lp_set_col_bounds(f->lp, f->ucol[k], 0, 0);
+	r = export_lp(f, "balance", e);
+	if (f->all_fit)
+		for (k = 0; k < m->n_demands; k++)
+			if (f->ucol[k] >= 0)
+				lp_set_col_bounds(f->lp, f->ucol[k], 0,
+				    f->d_lp[k]);
+	return r;
+}
+
+/*
  * Stage 2 (balance only): find the smallest U under which the admitted
  * traffic still fits, then cap U there (plus balance_tol).
  *
@@ -826,6 +874,8 @@ balance(struct arcform *f, struct err *e)
 	int steps, iters = 0, r, p;
 	size_t k;
 
+	if (wants_export(f, false) && (r = export_balance(f, e)) != 0)
+		return r;
 	lp_clear_obj(f->lp);
 	if (f->all_fit) {
 		for (k = 0; k < m->n_demands; k++)
@@ -876,7 +926,8 @@ balance(struct arcform *f, struct err *e)
 		}
 		U = next;
 	}
-	if ((r = record(f, "balance", U, iters, ms, e)) != 0)
+	/* U is the optimum of the exported min-U LP (export_balance()). */
+	if ((r = record(f, "balance", U, U, iters, ms, e)) != 0)
 		return r;
 
 	lp_set_col_bounds(f->lp, f->ucol_U, 0, fmin(f->headroom,

@@ -299,6 +299,7 @@ def check_balance_and_cost(c):
 
     if c.name in MPS_INSTANCES:
         check_mps(c, p, "balance plan")
+        check_mps(c, p, "balance plan", "balance")
 
     # Check 2: cost with everything fitting (capacity x factor, as above).
     rev = c.set_policy("cost")
@@ -315,8 +316,10 @@ def check_balance_and_cost(c):
     return u, factor
 
 
-def check_mps(c, p, label):
-    """Check 4: the exported LP of the last stage, solved by three solvers.
+def check_mps(c, p, label, stage_name=None):
+    """Check 4: the exported LP of a stage (the last one unless stage_name
+    names another, e.g. "balance", whose LP is min U with the admission
+    decided), solved by three solvers.
 
     References: COIN-OR CLP (tolerances 1e-10), glpsol (defaults) and
     scipy's HiGHS (tolerances 1e-9) on the same free MPS file, read by
@@ -329,12 +332,15 @@ def check_mps(c, p, label):
     1e-6 (brain.txt: DESIGN.md section 2), their spread is shown in an
     "info" row and weft's value must lie within it, widened by 1e-6.
     """
-    r = c.d.get("/v1/model?format=mps&stage=-1", timeout=HTTP_TIMEOUT)
+    idx = -1
+    if stage_name is not None:
+        idx = [s_["name"] for s_ in p["stages"]].index(stage_name)
+    r = c.d.get("/v1/model?format=mps&stage=%d" % idx, timeout=HTTP_TIMEOUT)
     if r.status != 200:
-        c.row("MPS export %s last stage" % label, "HTTP %d" % r.status, 200, False,
+        c.row("MPS export %s stage %d" % (label, idx), "HTTP %d" % r.status, 200, False,
               note=r.body[:200].decode("utf-8", "replace"))
         return
-    st = p["stages"][-1]
+    st = p["stages"][idx]
     objs = {}
     with tempfile.TemporaryDirectory(prefix="weft-ref-") as tmp:
         path = os.path.join(tmp, "stage.mps")
