@@ -1082,10 +1082,24 @@ finish(const struct model *m, struct plan *p, bool empty,
 	struct plan_route *rt;
 	struct plan_arc *pa;
 	size_t k, i, t, a;
-	double h = m->policy.headroom;
+	double h = m->policy.headroom, d;
 
 	for (k = 0; k < m->n_demands; k++) {
 		rt = &p->routes[k];
+		/*
+		 * A carried rate short of the demand by rounding dust only
+		 * (the LP's tolerances, the decomposition's sums) is the whole
+		 * demand: scale its paths up, so a fully carried demand
+		 * reports exactly zero unserved.
+		 */
+		d = m->demands[k].rate_bps - rt->carried_bps;
+		if (rt->carried_bps > 0 && d > 0 &&
+		    d <= SERVED_REL * m->demands[k].rate_bps) {
+			for (i = 0; i < rt->n_paths; i++)
+				rt->paths[i].rate_bps *=
+				    m->demands[k].rate_bps / rt->carried_bps;
+			rt->carried_bps = m->demands[k].rate_bps;
+		}
 		for (i = 0; i < rt->n_paths; i++)
 			for (t = 0; t < rt->paths[i].n_arcs; t++)
 				p->arcs[rt->paths[i].arcs[t]].load_bps +=
