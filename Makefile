@@ -98,6 +98,11 @@ $(UNIT_API): $(BUILD)/tests/%: $(BUILD)/obj/tests/unit/%.o $(LIBAPI) $(LIBENGINE
 	@mkdir -p $(dir $@)
 	$(CC) $(LDFLAGS) -o $@ $^ $(LDLIBS)
 
+# The engine's timing driver (tests/bench): not part of make check.
+$(BUILD)/tests/bench/engine_bench: $(BUILD)/obj/tests/bench/engine_bench.o $(LIBENGINE) $(LIBBASE)
+	@mkdir -p $(dir $@)
+	$(CC) $(LDFLAGS) -o $@ $^ -lglpk -lm -pthread
+
 check-unit: $(UNIT_ALL)
 	@fail=0; for t in $(UNIT_ALL); do \
 	    echo "== $$t"; $$t || fail=1; \
@@ -110,6 +115,12 @@ check-reference: $(WEFTD)
 	WEFTD=$(abspath $(WEFTD)) $(PYTHON) tests/reference/run.py
 
 check: check-unit check-integration check-reference
+
+# The benchmark (tests/bench/README.md): takes minutes; not part of check.
+# make bench BENCH_ARGS="--quick" (or instance names, --runs N, ...).
+bench: $(WEFTD)
+	WEFTD=$(abspath $(WEFTD)) $(PYTHON) tests/bench/run.py $(BENCH_ARGS)
+.PHONY: bench
 
 demo: $(WEFTD)
 	sh deploy/demo.sh $(WEFTD)

@@ -22,6 +22,7 @@
 #include <jansson.h>
 
 #include "codec_model.h"
+#include "codec_json.h"
 #include "../daemon/base/err.h"
 #include "../daemon/base/xalloc.h"
 #include "../daemon/engine/model.h"
@@ -292,7 +293,8 @@ static const char *const matrix_keys[] = { "name", "demands", NULL };
 static const char *const demand_keys[] = { "src", "dst", "rate_bps",
     "priority", NULL };
 static const char *const policy_keys[] = { "objective", "headroom",
-    "matrix", "balance_tolerance", NULL };
+    "matrix", "balance_tolerance", "formulation", "gap_target",
+    "keep_paths", "keep_paths_tolerance", NULL };
 static const char *const patch_keys[] = { "state", "capacity_bps",
     "te_metric", NULL };
 
@@ -493,8 +495,8 @@ int
 codec_policy_decode(const char *text, size_t len, struct policy *p,
     struct err *e)
 {
-	json_t *j = NULL;
-	const char *obj, *mname;
+	json_t *j = NULL, *v;
+	const char *obj, *mname, *form = NULL;
 	struct policy np;
 	int r;
 
@@ -508,14 +510,29 @@ codec_policy_decode(const char *text, size_t len, struct policy *p,
 	    (r = get_num(j, "balance_tolerance", "", false, 0, false, 1,
 	    &np.balance_tol, NULL, e)) != 0)
 		goto out;
-	if (strcmp(obj, "cost") == 0)
-		np.objective = OBJ_COST;
-	else if (strcmp(obj, "balance") == 0)
-		np.objective = OBJ_BALANCE;
-	else {
-		r = err_set(e, ERR_INVALID, "objective", "must be \"cost\" or "
-		    "\"balance\"");
+	if (objective_parse(obj, &np.objective) != 0) {
+		r = err_set(e, ERR_INVALID, "objective", "must be \"cost\", "
+		    "\"balance\" or \"congestion\"");
 		goto out;
+	}
+	if ((r = get_str(j, "formulation", "", false, false, &form, e)) != 0 ||
+	    (r = get_num(j, "gap_target", "", false, 0, false, 0.5,
+	    &np.gap_target, NULL, e)) != 0 ||
+	    (r = get_num(j, "keep_paths_tolerance", "", false, 0, false, 0.5,
+	    &np.keep_paths_tol, NULL, e)) != 0)
+		goto out;
+	if (form != NULL && formulation_parse(form, &np.formulation) != 0) {
+		r = err_set(e, ERR_INVALID, "formulation", "must be \"path\" "
+		    "(column generation) or \"arc\" (node-arc)");
+		goto out;
+	}
+	if ((v = json_object_get(j, "keep_paths")) != NULL) {
+		if (!json_is_boolean(v)) {
+			r = err_set(e, ERR_INVALID, "keep_paths",
+			    "must be true or false");
+			goto out;
+		}
+		np.keep_paths = json_is_true(v);
 	}
 	if (json_object_get(j, "matrix") == NULL) {
 		r = err_set(e, ERR_INVALID, "matrix", "required field is "
@@ -570,28 +587,6 @@ out:
 
 /* ---- encoders ---------------------------------------------------- */
 
-/* A real, or null for a value JSON cannot hold. */
-static json_t *
-num(double x)
-{
-	return isfinite(x) ? json_real(x) : json_null();
-}
-
-/* Dumps and drops j; NULL if j is NULL or dumping fails. */
-static char *
-dump(json_t *j, size_t *lenp)
-{
-	char *s = NULL;
-
-	*lenp = 0;
-	if (j != NULL)
-		s = json_dumps(j, JSON_COMPACT | JSON_REAL_PRECISION(17));
-	json_decref(j);
-	if (s != NULL)
-		*lenp = strlen(s);
-	return s;
-}
-
 static json_t *
 link_json(const struct model *m, size_t i)
 {
@@ -599,8 +594,8 @@ link_json(const struct model *m, size_t i)
 
 	return json_pack("{s:s, s:s, s:s, s:o, s:o, s:s}", "id", l->id,
 	    "a", m->nodes[l->a].id, "b", m->nodes[l->b].id,
-	    "capacity_bps", num(l->capacity_bps), "te_metric",
-	    num(l->te_metric), "state", l->up ? "up" : "down");
+	    "capacity_bps", codec_num(l->capacity_bps), "te_metric",
+	    codec_num(l->te_metric), "state", l->up ? "up" : "down");
 }
 
 char *
@@ -622,15 +617,17 @@ codec_topology_encode(const struct model *m, size_t *lenp)
 			json_object_set_new(n, "name",
 			    json_string(m->nodes[i].name));
 		if (m->nodes[i].has_coords) {
-			json_object_set_new(n, "lat", num(m->nodes[i].lat));
-			json_object_set_new(n, "lon", num(m->nodes[i].lon));
+			json_object_set_new(n, "lat",
+			    codec_num(m->nodes[i].lat));
+			json_object_set_new(n, "lon",
+			    codec_num(m->nodes[i].lon));
 		}
 		json_array_append_new(nodes, n);
 	}
 	for (i = 0; i < m->n_links; i++)
 		if (json_array_append_new(links, link_json(m, i)) != 0)
 			goto fail;
-	return dump(j, lenp);
+	return codec_dump(j, lenp);
 fail:
 	json_decref(j);
 	*lenp = 0;
@@ -651,14 +648,14 @@ codec_matrix_encode(const struct matrix *mx, size_t *lenp)
 		if (json_array_append_new(demands, json_pack(
 		    "{s:s, s:s, s:o, s:i}", "src", mx->entries[i].src, "dst",
 		    mx->entries[i].dst, "rate_bps",
-		    num(mx->entries[i].rate_bps), "priority",
+		    codec_num(mx->entries[i].rate_bps), "priority",
 		    mx->entries[i].priority)) != 0) {
 			json_decref(j);
 			*lenp = 0;
 			return NULL;
 		}
 	}
-	return dump(j, lenp);
+	return codec_dump(j, lenp);
 }
 
 char *
@@ -675,26 +672,29 @@ codec_matrices_encode(const struct db_name *names, size_t n, size_t *lenp)
 		if (json_array_append_new(arr, json_pack("{s:s, s:I, s:o}",
 		    "name", names[i].name, "demands",
 		    (json_int_t)names[i].n_demands, "total_bps",
-		    num(names[i].total_bps))) != 0) {
+		    codec_num(names[i].total_bps))) != 0) {
 			json_decref(j);
 			*lenp = 0;
 			return NULL;
 		}
 	}
-	return dump(j, lenp);
+	return codec_dump(j, lenp);
 }
 
 char *
 codec_policy_encode(const struct policy *p, size_t *lenp)
 {
-	return dump(json_pack("{s:s, s:o, s:s?, s:o}", "objective",
-	    p->objective == OBJ_BALANCE ? "balance" : "cost", "headroom",
-	    num(p->headroom), "matrix", p->matrix, "balance_tolerance",
-	    num(p->balance_tol)), lenp);
+	return codec_dump(json_pack("{s:s, s:o, s:s?, s:o, s:s, s:o, s:b, "
+	    "s:o}", "objective", objective_word(p->objective), "headroom",
+	    codec_num(p->headroom), "matrix", p->matrix, "balance_tolerance",
+	    codec_num(p->balance_tol), "formulation",
+	    formulation_word(p->formulation), "gap_target",
+	    codec_num(p->gap_target), "keep_paths", p->keep_paths,
+	    "keep_paths_tolerance", codec_num(p->keep_paths_tol)), lenp);
 }
 
 char *
 codec_link_encode(const struct model *m, size_t i, size_t *lenp)
 {
-	return dump(link_json(m, i), lenp);
+	return codec_dump(link_json(m, i), lenp);
 }

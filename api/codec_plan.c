@@ -14,7 +14,6 @@
  * and adds a warning sentence, so nothing is left out silently.
  */
 
-#include <math.h>
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
@@ -22,31 +21,10 @@
 #include <jansson.h>
 
 #include "codec_plan.h"
+#include "codec_json.h"
 #include "../daemon/base/err.h"
 #include "../daemon/engine/model.h"
 #include "../daemon/engine/plan.h"
-
-/* A real, or null for a value JSON cannot hold. */
-static json_t *
-num(double x)
-{
-	return isfinite(x) ? json_real(x) : json_null();
-}
-
-/* Dumps and drops j; NULL if j is NULL or dumping fails. */
-static char *
-dump(json_t *j, size_t *lenp)
-{
-	char *s = NULL;
-
-	*lenp = 0;
-	if (j != NULL)
-		s = json_dumps(j, JSON_COMPACT | JSON_REAL_PRECISION(17));
-	json_decref(j);
-	if (s != NULL)
-		*lenp = strlen(s);
-	return s;
-}
 
 /*
  * Appends v to arr; clears *okp when v is NULL (a string that is not
@@ -83,7 +61,9 @@ fits(const struct model *m, const struct plan *p)
 static const char *
 objective_str(enum objective o)
 {
-	return o == OBJ_BALANCE ? "balance" : "cost";
+	const char *w = objective_word(o);
+
+	return w != NULL ? w : "unknown";
 }
 
 /*
@@ -100,7 +80,8 @@ unplaced(json_t *j, const struct model *m, bool *okp)
 		return;
 	if (json_object_set_new(j, "unplaced_demands",
 	    json_integer((json_int_t)m->n_unplaced)) != 0 ||
-	    json_object_set_new(j, "unplaced_bps", num(m->unplaced_bps)) != 0) {
+	    json_object_set_new(j, "unplaced_bps",
+	    codec_num(m->unplaced_bps)) != 0) {
 		*okp = false;
 		return;
 	}
@@ -119,6 +100,36 @@ unplaced(json_t *j, const struct model *m, bool *okp)
 	warn = json_array();
 	add(warn, json_string(text), okp);
 	if (json_object_set_new(j, "warnings", warn) != 0)
+		*okp = false;
+}
+
+/*
+ * The solver's own account of the plan: the congestion cost of the loads,
+ * the formulation, its certified gap and bound, effort, and the traffic
+ * moved relative to the previous plan (null when there was none).
+ */
+static void
+solver_fields(json_t *j, const struct plan *p, bool *okp)
+{
+	const char *form = formulation_word(p->formulation);
+	int iterations = p->iterations;
+	size_t i;
+
+	if (iterations == 0)
+		for (i = 0; i < p->n_stages; i++)
+			iterations += p->stages[i].iterations;
+	if (json_object_set_new(j, "congestion", codec_num(p->congestion)) ||
+	    json_object_set_new(j, "formulation", json_string(form != NULL ?
+	    form : "unknown")) ||
+	    json_object_set_new(j, "gap", codec_num(p->gap)) ||
+	    json_object_set_new(j, "bound", codec_num(p->bound)) ||
+	    json_object_set_new(j, "iterations", json_integer(iterations)) ||
+	    json_object_set_new(j, "cg_rounds", json_integer(p->cg_rounds)) ||
+	    json_object_set_new(j, "columns", json_integer((json_int_t)
+	    p->columns)) ||
+	    json_object_set_new(j, "warm", json_boolean(p->warm)) ||
+	    json_object_set_new(j, "moved_bps", p->moved_bps >= 0 ?
+	    codec_num(p->moved_bps) : json_null()))
 		*okp = false;
 }
 
@@ -143,7 +154,7 @@ summary(const struct model *m, const struct plan *p, int64_t revision,
 	for (i = 0; i <= MODEL_PRIO_MAX; i++) {
 		snprintf(key, sizeof(key), "%zu", i);
 		if (json_object_set_new(byprio, key,
-		    num(p->unserved_by_prio_bps[i])) != 0)
+		    codec_num(p->unserved_by_prio_bps[i])) != 0)
 			*okp = false;
 	}
 	sat = json_array();
@@ -153,9 +164,10 @@ summary(const struct model *m, const struct plan *p, int64_t revision,
 	for (i = 0; i < p->n_stages; i++)
 		add(stages, json_pack("{s:s, s:o, s:o, s:i, s:o}", "name",
 		    p->stages[i].name, "objective",
-		    num(p->stages[i].objective), "lp_objective",
-		    num(p->stages[i].lp_objective), "iterations",
-		    p->stages[i].iterations, "ms", num(p->stages[i].ms)), okp);
+		    codec_num(p->stages[i].objective), "lp_objective",
+		    codec_num(p->stages[i].lp_objective), "iterations",
+		    p->stages[i].iterations, "ms",
+		    codec_num(p->stages[i].ms)), okp);
 	j = json_pack("{s:I, s:I, s:s, s:s, s:s?, s:o, s:o, s:o, s:o, s:o, "
 	    "s:o, s:o, s:o, s:o}",
 	    "revision", (json_int_t)revision,
@@ -163,15 +175,16 @@ summary(const struct model *m, const struct plan *p, int64_t revision,
 	    "status", plan_status_str(p->status),
 	    "objective", objective_str(p->objective),
 	    "matrix", m->policy.matrix,
-	    "max_utilization", num(p->max_util),
-	    "total_cost", num(p->total_cost),
-	    "demand_bps", num(p->demand_bps),
-	    "carried_bps", num(p->carried_bps),
-	    "unserved_bps", num(p->unserved_bps),
+	    "max_utilization", codec_num(p->max_util),
+	    "total_cost", codec_num(p->total_cost),
+	    "demand_bps", codec_num(p->demand_bps),
+	    "carried_bps", codec_num(p->carried_bps),
+	    "unserved_bps", codec_num(p->unserved_bps),
 	    "unserved_by_priority", byprio,
-	    "solve_ms", num(p->solve_ms),
+	    "solve_ms", codec_num(p->solve_ms),
 	    "saturated_links", sat,
 	    "stages", stages);
+	solver_fields(j, p, okp);
 	unplaced(j, m, okp);
 	return j;
 }
@@ -194,7 +207,7 @@ path_json(const struct model *m, const struct demand *d,
 		add(nodes, json_string(m->nodes[at].id), okp);
 		add(links, json_string(l->id), okp);
 	}
-	return json_pack("{s:o, s:o, s:o}", "rate_bps", num(pp->rate_bps),
+	return json_pack("{s:o, s:o, s:o}", "rate_bps", codec_num(pp->rate_bps),
 	    "nodes", nodes, "links", links);
 }
 
@@ -217,9 +230,9 @@ routes(const struct model *m, const struct plan *p, int64_t revision,
 		add(arr, json_pack(
 		    "{s:s, s:s, s:i, s:o, s:o, s:o, s:o}",
 		    "src", m->nodes[d->src].id, "dst", m->nodes[d->dst].id,
-		    "priority", d->priority, "rate_bps", num(d->rate_bps),
-		    "carried_bps", num(pr->carried_bps), "unserved_bps",
-		    num(pr->unserved_bps), "paths", paths), okp);
+		    "priority", d->priority, "rate_bps", codec_num(d->rate_bps),
+		    "carried_bps", codec_num(pr->carried_bps), "unserved_bps",
+		    codec_num(pr->unserved_bps), "paths", paths), okp);
 	}
 	return json_pack("{s:I, s:I, s:o}", "revision", (json_int_t)revision,
 	    "model_revision", (json_int_t)(p != NULL ? p->model_revision :
@@ -230,9 +243,9 @@ static json_t *
 arc_json(const struct plan_arc *a)
 {
 	return json_pack("{s:o, s:o, s:o, s:o, s:b}", "load_bps",
-	    num(a->load_bps), "utilization", num(a->util), "headroom_bps",
-	    num(a->headroom_bps), "shadow_price", num(a->shadow_price),
-	    "saturated", a->saturated);
+	    codec_num(a->load_bps), "utilization", codec_num(a->util),
+	    "headroom_bps", codec_num(a->headroom_bps), "shadow_price",
+	    codec_num(a->shadow_price), "saturated", a->saturated);
 }
 
 static json_t *
@@ -249,15 +262,16 @@ loads(const struct model *m, const struct plan *p, int64_t revision,
 		add(arr, json_pack("{s:s, s:s, s:s, s:s, s:o, s:o, s:o, s:o}",
 		    "id", l->id, "a", m->nodes[l->a].id, "b", m->nodes[l->b].id,
 		    "state", l->up ? "up" : "down",
-		    "capacity_bps", num(l->capacity_bps),
-		    "te_metric", num(l->te_metric),
+		    "capacity_bps", codec_num(l->capacity_bps),
+		    "te_metric", codec_num(l->te_metric),
 		    "a_to_b", arc_json(&p->arcs[2 * i]),
 		    "b_to_a", arc_json(&p->arcs[2 * i + 1])), okp);
 	}
 	return json_pack("{s:I, s:I, s:o, s:o}", "revision",
 	    (json_int_t)revision, "model_revision", (json_int_t)(p != NULL ?
 	    p->model_revision : m->revision), "links", arr,
-	    "max_utilization", p != NULL ? num(p->max_util) : json_null());
+	    "max_utilization", p != NULL ? codec_num(p->max_util) :
+	    json_null());
 }
 
 int
@@ -279,9 +293,9 @@ codec_plan_render(const struct model *m, const struct plan *p,
 	 * A json_pack() given a NULL "o" value fails and returns NULL, so
 	 * any failure inside shows up as a NULL text here.
 	 */
-	if ((s = dump(summary(m, p, revision, &ok), &slen)) == NULL ||
-	    (rt = dump(routes(m, p, revision, &ok), &rlen)) == NULL ||
-	    (ld = dump(loads(m, p, revision, &ok), &llen)) == NULL || !ok)
+	if ((s = codec_dump(summary(m, p, revision, &ok), &slen)) == NULL ||
+	    (rt = codec_dump(routes(m, p, revision, &ok), &rlen)) == NULL ||
+	    (ld = codec_dump(loads(m, p, revision, &ok), &llen)) == NULL || !ok)
 		goto out;
 	*summaryp = s;
 	*summary_lenp = slen;

@@ -26,19 +26,15 @@ int
 h_matrices_list(struct req *rq, struct err *e)
 {
 	struct db_name *names = NULL;
-	size_t n = 0, len;
+	size_t n = 0, len = 0;
 	char *text;
 	int r;
 
 	r = ERR_INTERNAL;
 	if ((r = service_list_matrices(rq->svc, &names, &n, e)) != 0)
 		goto out;
-	if ((text = codec_matrices_encode(names, n, &len)) == NULL) {
-		r = err_set(e, ERR_INTERNAL, NULL, "cannot encode the list");
-		goto out;
-	}
-	reply_json(rq, 200, text, len);
-	r = 0;
+	text = codec_matrices_encode(names, n, &len);
+	r = reply_encoded(rq, text, len, "the list", e);
 out:
 	db_names_free(names, n);
 	return r;
@@ -49,20 +45,15 @@ h_matrix_get(struct req *rq, struct err *e)
 {
 	struct matrix *mx = NULL;
 	char *text;
-	size_t len;
+	size_t len = 0;
 	int r;
 
 	r = ERR_INTERNAL;
 	if ((r = check_name(rq, e)) != 0 ||
 	    (r = service_get_matrix(rq->svc, rq->param, &mx, e)) != 0)
 		goto out;
-	if ((text = codec_matrix_encode(mx, &len)) == NULL) {
-		r = err_set(e, ERR_INTERNAL, NULL, "cannot encode the "
-		    "matrix");
-		goto out;
-	}
-	reply_json(rq, 200, text, len);
-	r = 0;
+	text = codec_matrix_encode(mx, &len);
+	r = reply_encoded(rq, text, len, "the matrix", e);
 out:
 	matrix_free(mx);
 	return r;

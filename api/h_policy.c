@@ -17,18 +17,14 @@ h_policy_get(struct req *rq, struct err *e)
 {
 	struct model *m = NULL;
 	char *text;
-	size_t len;
+	size_t len = 0;
 	int r;
 
 	r = ERR_INTERNAL;
 	if ((r = service_get_topology(rq->svc, &m, e)) != 0)
 		goto out;
-	if ((text = codec_policy_encode(&m->policy, &len)) == NULL) {
-		r = err_set(e, ERR_INTERNAL, NULL, "cannot encode the policy");
-		goto out;
-	}
-	reply_json(rq, 200, text, len);
-	r = 0;
+	text = codec_policy_encode(&m->policy, &len);
+	r = reply_encoded(rq, text, len, "the policy", e);
 out:
 	model_free(m);
 	return r;

@@ -17,19 +17,14 @@ h_topology_get(struct req *rq, struct err *e)
 {
 	struct model *m = NULL;
 	char *text;
-	size_t len;
+	size_t len = 0;
 	int r;
 
 	r = ERR_INTERNAL;
 	if ((r = service_get_topology(rq->svc, &m, e)) != 0)
 		goto out;
-	if ((text = codec_topology_encode(m, &len)) == NULL) {
-		r = err_set(e, ERR_INTERNAL, NULL, "cannot encode the "
-		    "topology");
-		goto out;
-	}
-	reply_json(rq, 200, text, len);
-	r = 0;
+	text = codec_topology_encode(m, &len);
+	r = reply_encoded(rq, text, len, "the topology", e);
 out:
 	model_free(m);
 	return r;
@@ -60,7 +55,7 @@ h_link_get(struct req *rq, struct err *e)
 {
 	struct model *m = NULL;
 	char *text;
-	size_t len;
+	size_t len = 0;
 	long i;
 	int r;
 
@@ -72,12 +67,8 @@ h_link_get(struct req *rq, struct err *e)
 		    rq->param);
 		goto out;
 	}
-	if ((text = codec_link_encode(m, (size_t)i, &len)) == NULL) {
-		r = err_set(e, ERR_INTERNAL, NULL, "cannot encode link");
-		goto out;
-	}
-	reply_json(rq, 200, text, len);
-	r = 0;
+	text = codec_link_encode(m, (size_t)i, &len);
+	r = reply_encoded(rq, text, len, "link", e);
 out:
 	model_free(m);
 	return r;

@@ -42,4 +42,10 @@ int h_plan_routes(struct req *rq, struct err *e);
 int h_plan_loads(struct req *rq, struct err *e);
 int h_model_export(struct req *rq, struct err *e);
 
+/* h_fwd.c */
+int h_plan_forwarding(struct req *rq, struct err *e);
+
+/* h_diff.c */
+int h_plan_diff(struct req *rq, struct err *e);
+
 #endif /* WEFT_API_HANDLERS_H */

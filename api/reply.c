@@ -74,6 +74,16 @@ reply_json(struct req *rq, int status, char *text, size_t len)
 	rq->out_len = len;
 }
 
+int
+reply_encoded(struct req *rq, char *text, size_t len, const char *what,
+    struct err *e)
+{
+	if (text == NULL)
+		return err_set(e, ERR_INTERNAL, NULL, "cannot encode %s", what);
+	reply_json(rq, 200, text, len);
+	return 0;
+}
+
 void
 reply_text(struct req *rq, const char *ctype, char *text, size_t len)
 {

@@ -34,6 +34,15 @@ void reply_error(struct req *rq, int r, const struct err *e);
 void reply_json(struct req *rq, int status, char *text, size_t len);
 
 /*
+ * Replies 200 with the JSON text of len bytes that a codec_*_encode()
+ * call returned (taken over, as by reply_json()) and returns 0.  When text
+ * is NULL, the encoder failed: sets no reply and returns ERR_INTERNAL with
+ * "cannot encode <what>" in e, for the caller to return.
+ */
+int reply_encoded(struct req *rq, char *text, size_t len, const char *what,
+    struct err *e);
+
+/*
  * Replies status with a JSON object built by jansson's json_pack format
  * fmt (for example "{s:I, s:s}"; "I" takes a long long).  Returns 0, or
  * replies 500 and returns ERR_INTERNAL when the format or a value is bad.

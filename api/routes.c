@@ -36,6 +36,8 @@ static const struct route routes[] = {
 	{ "GET", "/v1/plan", h_plan_summary, BODY_NONE, 0 },
 	{ "GET", "/v1/plan/routes", h_plan_routes, BODY_NONE, 0 },
 	{ "GET", "/v1/plan/loads", h_plan_loads, BODY_NONE, 0 },
+	{ "GET", "/v1/plan/forwarding", h_plan_forwarding, BODY_NONE, 0 },
+	{ "GET", "/v1/plan/diff", h_plan_diff, BODY_NONE, 0 },
 	{ "GET", "/v1/model", h_model_export, BODY_NONE, 0 },
 };
 

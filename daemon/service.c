@@ -10,7 +10,9 @@
  * records the summary in the plan history and swaps the published pointer
  * under pub_mu.  Readers take a reference under pub_mu and release it
  * whenever they are done; the last reference frees the plan.  A failed
- * solve leaves the last good plan published and records the error.
+ * solve leaves the last good plan published and records the error.  The
+ * last SERVICE_PLANS_KEPT published plans also stay referenced in a ring
+ * (under pub_mu), so GET /v1/plan/diff can compare with them.
  */
 
 #include <sys/stat.h>
@@ -35,6 +37,11 @@ struct service {
 	struct db *db;			/* owned, under db_mu */
 	pthread_mutex_t pub_mu;
 	struct published *cur;		/* owned reference, under pub_mu */
+	struct published *kept[SERVICE_PLANS_KEPT];	/* owned references
+					   to the last plans published, a
+					   ring under pub_mu; kept_head is
+					   the oldest slot once full */
+	size_t kept_n, kept_head;
 	int64_t next_plan_revision;	/* solver thread only */
 	struct service_status st;	/* failure fields under pub_mu */
 	struct solver *solver;		/* owned */
@@ -70,12 +77,67 @@ service_plan_ref(struct service *svc)
 	return p;
 }
 
+struct published *
+service_plan_ref_rev(struct service *svc, int64_t rev)
+{
+	struct published *p = NULL;
+	size_t i;
+
+	pthread_mutex_lock(&svc->pub_mu);
+	for (i = 0; i < svc->kept_n; i++) {
+		if (svc->kept[i]->revision == rev) {
+			p = svc->kept[i];
+			atomic_fetch_add(&p->refs, 1);
+			break;
+		}
+	}
+	pthread_mutex_unlock(&svc->pub_mu);
+	return p;
+}
+
+void
+service_plans_kept(struct service *svc, int64_t *oldestp, int64_t *newestp)
+{
+	size_t i;
+
+	*oldestp = *newestp = 0;
+	pthread_mutex_lock(&svc->pub_mu);
+	for (i = 0; i < svc->kept_n; i++) {
+		if (*oldestp == 0 || svc->kept[i]->revision < *oldestp)
+			*oldestp = svc->kept[i]->revision;
+		if (svc->kept[i]->revision > *newestp)
+			*newestp = svc->kept[i]->revision;
+	}
+	pthread_mutex_unlock(&svc->pub_mu);
+}
+
+/*
+ * Adds pub to the ring of kept plans with a reference of its own; returns
+ * the plan it pushed out (whose reference the caller drops after
+ * unlocking), or NULL.  Called under pub_mu.
+ */
+static struct published *
+keep(struct service *svc, struct published *pub)
+{
+	struct published *out = NULL;
+
+	atomic_fetch_add(&pub->refs, 1);
+	if (svc->kept_n < SERVICE_PLANS_KEPT) {
+		svc->kept[svc->kept_n++] = pub;
+		return NULL;
+	}
+	out = svc->kept[svc->kept_head];
+	svc->kept[svc->kept_head] = pub;
+	svc->kept_head = (svc->kept_head + 1) % SERVICE_PLANS_KEPT;
+	return out;
+}
+
 /* Runs on the solver thread; takes ownership of m and p. */
 static void
 publish(void *ctx, struct model *m, struct plan *p, const struct err *e)
 {
 	struct service *svc = ctx;
-	struct published *pub, *old;
+	struct published *pub, *old, *dropped;
 	struct err re = { 0 };
 
 	if (p == NULL) {
@@ -119,10 +181,12 @@ publish(void *ctx, struct model *m, struct plan *p, const struct err *e)
 	pthread_mutex_lock(&svc->pub_mu);
 	old = svc->cur;
 	svc->cur = pub;
+	dropped = keep(svc, pub);
 	svc->st.last_solve_failed = false;
 	svc->st.last_error[0] = '\0';
 	pthread_mutex_unlock(&svc->pub_mu);
 	service_plan_unref(old);
+	service_plan_unref(dropped);
 	log_info("plan published revision=%lld model_revision=%lld status=%s "
 	    "max_util=%.6f carried_bps=%.6g unserved_bps=%.6g solve_ms=%.1f",
 	    (long long)pub->revision, (long long)pub->model_revision,
@@ -167,10 +231,14 @@ fail:
 void
 service_stop(struct service *svc)
 {
+	size_t i;
+
 	if (svc == NULL)
 		return;
 	solver_stop(svc->solver);
 	service_plan_unref(svc->cur);
+	for (i = 0; i < svc->kept_n; i++)
+		service_plan_unref(svc->kept[i]);
 	db_close(svc->db);
 	pthread_mutex_destroy(&svc->db_mu);
 	pthread_mutex_destroy(&svc->pub_mu);

@@ -103,6 +103,24 @@ int service_status(struct service *svc, struct service_status *st,
 struct published *service_plan_ref(struct service *svc);
 void service_plan_unref(struct published *p);
 
+#define SERVICE_PLANS_KEPT	32	/* published plans kept for diffs */
+
+/*
+ * Returns published plan revision rev with a reference taken, or NULL
+ * when it is not among the last SERVICE_PLANS_KEPT published (or was
+ * never published).  Release it with service_plan_unref().  The kept
+ * plans hold their model snapshots, so memory grows with up to
+ * SERVICE_PLANS_KEPT plans and models; after a restart none is kept.
+ */
+struct published *service_plan_ref_rev(struct service *svc, int64_t rev);
+
+/*
+ * Sets *oldestp and *newestp to the oldest and newest kept plan
+ * revisions; both 0 when none is kept.
+ */
+void service_plans_kept(struct service *svc, int64_t *oldestp,
+    int64_t *newestp);
+
 /*
  * Writes the LP of the published plan's model (stage as in struct
  * solve_opts: -1 for the last) in format into a new buffer *textp of

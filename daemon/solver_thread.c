@@ -13,6 +13,12 @@
  * round picks up the newer model: bursts become one re-solve, and no
  * change is ever left unplanned.  A snapshot whose revision was already
  * solved is skipped.
+ *
+ * The thread keeps one engine state across revisions: with the path
+ * formulation, a revision that changes only link states, capacities,
+ * rates or the policy is re-solved from the previous master and basis
+ * (engine_solve_warm()).  The state lives and dies on this thread, since
+ * it holds GLPK objects.
  */
 
 #include <errno.h>
@@ -40,6 +46,7 @@ struct solver {
 	solver_publish_fn *fn;
 	void *ctx;
 	int64_t solved_revision;	/* last model revision solved, -1 none */
+	struct engine_state *state;	/* owned, used only by the thread */
 };
 
 static void
@@ -104,7 +111,14 @@ solve_once(struct solver *s)
 	log_info("solve started model_revision=%lld nodes=%zu links=%zu "
 	    "demands=%zu unplaced=%zu", (long long)m->revision, m->n_nodes,
 	    m->n_links, m->n_demands, m->n_unplaced);
-	if ((r = engine_solve(m, &o, &p, &e)) != 0) {
+	if (m->policy.formulation == FORM_PATH)
+		r = engine_solve_warm(&s->state, m, &o, &p, &e);
+	else {
+		engine_state_free(s->state);
+		s->state = NULL;
+		r = engine_solve(m, &o, &p, &e);
+	}
+	if (r != 0) {
 		log_err("solve failed model_revision=%lld code=%s where=%s "
 		    "msg=\"%s\"", (long long)m->revision, err_word(r), e.where,
 		    e.msg);
@@ -114,6 +128,13 @@ solve_once(struct solver *s)
 		s->fn(s->ctx, m, NULL, &e);
 		return;
 	}
+	log_info("plan solved model_revision=%lld formulation=%s status=%s "
+	    "ms=%.1f iterations=%d cg_rounds=%d columns=%zu gap=%.3g warm=%s "
+	    "moved_bps=%.6g", (long long)m->revision,
+	    p->formulation == FORM_PATH ? "path" : "arc",
+	    plan_status_str(p->status), p->solve_ms, p->iterations,
+	    p->cg_rounds, p->columns, p->gap, p->warm ? "yes" : "no",
+	    p->moved_bps);
 	s->solved_revision = m->revision;
 	s->fn(s->ctx, m, p, NULL);
 }
@@ -125,6 +146,8 @@ run(void *arg)
 
 	while (wait_change(s))
 		solve_once(s);
+	engine_state_free(s->state);
+	s->state = NULL;
 	engine_thread_done();
 	return NULL;
 }

@@ -12,7 +12,7 @@
  * version intact and two processes opening the same new file cannot both
  * migrate it.  The model revision lives in meta under "model_revision";
  * every model write adds exactly one inside its own transaction
- * (db_bump_revision), so a revision names exactly one committed state.
+ * (db_begin_change), so a revision names exactly one committed state.
  */
 
 #include <stdio.h>
@@ -99,6 +99,46 @@ db_exec(struct db *db, const char *sql, struct err *e)
 }
 
 int
+db_step(struct db *db, sqlite3_stmt *st, bool *rowp, const char *what,
+    struct err *e)
+{
+	int rc;
+
+	if (rowp != NULL)
+		*rowp = false;
+	rc = sqlite3_step(st);
+	if (rc == SQLITE_DONE)
+		return 0;
+	if (rc == SQLITE_ROW && rowp != NULL) {
+		*rowp = true;
+		return 0;
+	}
+	return db_fail(db, rc, what, e);
+}
+
+int
+db_run_key(struct db *db, const char *sql, const char *key, bool *rowp,
+    const char *what, struct err *e)
+{
+	sqlite3_stmt *st = NULL;
+	int r = ERR_INTERNAL, rc;
+
+	if (rowp != NULL)
+		*rowp = false;
+	if ((r = db_prepare(db, sql, &st, e)) != 0)
+		goto out;
+	if ((rc = sqlite3_bind_text(st, 1, key, -1, SQLITE_STATIC)) !=
+	    SQLITE_OK) {
+		r = db_fail(db, rc, what, e);
+		goto out;
+	}
+	r = db_step(db, st, rowp, what, e);
+out:
+	sqlite3_finalize(st);
+	return r;
+}
+
+int
 db_begin(struct db *db, bool write, struct err *e)
 {
 	return db_exec(db, write ? "BEGIN IMMEDIATE" : "BEGIN DEFERRED", e);
@@ -142,11 +182,13 @@ db_read_revision(struct db *db, int64_t *revp, struct err *e)
 }
 
 int
-db_bump_revision(struct db *db, int64_t *revp, struct err *e)
+db_begin_change(struct db *db, int64_t *revp, struct err *e)
 {
 	int r;
 
 	*revp = 0;
+	if ((r = db_begin(db, true, e)) != 0)
+		return r;
 	if ((r = db_exec(db, "UPDATE meta SET value = value + 1 "
 	    "WHERE key = 'model_revision'", e)) != 0)
 		return r;

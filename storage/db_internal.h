@@ -39,6 +39,23 @@ int db_prepare(struct db *db, const char *sql, sqlite3_stmt **stp,
 int db_exec(struct db *db, const char *sql, struct err *e);
 
 /*
+ * Steps st once.  With rowp, both a row (*rowp true) and the end of the
+ * rows (*rowp false) are success; without, only the end is.  Anything
+ * else is db_fail() with what naming the step.  st stays the caller's.
+ */
+int db_step(struct db *db, sqlite3_stmt *st, bool *rowp, const char *what,
+    struct err *e);
+
+/*
+ * Prepares sql, binds key to ?1 (text, borrowed for the call; NULL binds
+ * SQL NULL), steps it once as db_step() does and finalizes it: one lookup
+ * or one deletion by a name or id.  A failure to bind or step is reported
+ * under what.
+ */
+int db_run_key(struct db *db, const char *sql, const char *key, bool *rowp,
+    const char *what, struct err *e);
+
+/*
  * Opens a transaction: for writes BEGIN IMMEDIATE (takes the write lock
  * now, so validation and the write see the same state), for reads BEGIN
  * DEFERRED (one consistent snapshot across several SELECTs).
@@ -56,10 +73,13 @@ int db_commit(struct db *db, struct err *e);
 void db_rollback(struct db *db);
 
 /*
- * Inside a write transaction: adds one to the model revision and returns
- * the new value in *revp.
+ * Opens the write transaction of a model change (db_begin(db, true)) and
+ * adds one to the model revision in it, returning the new value in *revp.
+ * Every model write starts here, so a revision names one committed state.
+ * On failure, as after any failure in a transaction, the caller calls
+ * db_rollback().
  */
-int db_bump_revision(struct db *db, int64_t *revp, struct err *e);
+int db_begin_change(struct db *db, int64_t *revp, struct err *e);
 
 /* Reads the model revision (inside or outside a transaction). */
 int db_read_revision(struct db *db, int64_t *revp, struct err *e);

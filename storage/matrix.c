@@ -45,27 +45,14 @@ db_write_matrix(struct db *db, const char *name, const struct matrix *mx,
 		r = db_fail(db, rc, "binding a matrix", e);
 		goto out;
 	}
-	if ((rc = sqlite3_step(st)) != SQLITE_DONE) {
-		r = db_fail(db, rc, "storing a matrix", e);
+	if ((r = db_step(db, st, NULL, "storing a matrix", e)) != 0)
 		goto out;
-	}
 	sqlite3_finalize(st);
 	st = NULL;
 
-	if ((r = db_prepare(db, "DELETE FROM demands WHERE matrix = ?1", &st,
-	    e)) != 0)
+	if ((r = db_run_key(db, "DELETE FROM demands WHERE matrix = ?1", name,
+	    NULL, "deleting old demands", e)) != 0)
 		goto out;
-	if ((rc = sqlite3_bind_text(st, 1, name, -1, SQLITE_STATIC)) !=
-	    SQLITE_OK) {
-		r = db_fail(db, rc, "binding a matrix name", e);
-		goto out;
-	}
-	if ((rc = sqlite3_step(st)) != SQLITE_DONE) {
-		r = db_fail(db, rc, "deleting old demands", e);
-		goto out;
-	}
-	sqlite3_finalize(st);
-	st = NULL;
 
 	if ((r = db_prepare(db, "INSERT INTO demands (matrix, ordinal, src, "
 	    "dst, rate_bps, priority) VALUES (?1, ?2, ?3, ?4, ?5, ?6)", &st,
@@ -88,10 +75,8 @@ db_write_matrix(struct db *db, const char *name, const struct matrix *mx,
 			r = db_fail(db, rc, "binding a demand", e);
 			goto out;
 		}
-		if ((rc = sqlite3_step(st)) != SQLITE_DONE) {
-			r = db_fail(db, rc, "storing a demand", e);
+		if ((r = db_step(db, st, NULL, "storing a demand", e)) != 0)
 			goto out;
-		}
 	}
 	r = 0;
 out:
@@ -106,28 +91,17 @@ db_read_matrix(struct db *db, const char *name, struct matrix **mxp,
 	sqlite3_stmt *st = NULL;
 	struct matrix *mx = NULL;
 	const char *src, *dst;
+	bool found;
 	int r = ERR_INTERNAL, rc;
 
 	*mxp = NULL;
-	if ((r = db_prepare(db, "SELECT 1 FROM matrices WHERE name = ?1", &st,
-	    e)) != 0)
+	if ((r = db_run_key(db, "SELECT 1 FROM matrices WHERE name = ?1", name,
+	    &found, "looking up a matrix", e)) != 0)
 		goto out;
-	if ((rc = sqlite3_bind_text(st, 1, name, -1, SQLITE_STATIC)) !=
-	    SQLITE_OK) {
-		r = db_fail(db, rc, "binding a matrix name", e);
-		goto out;
-	}
-	rc = sqlite3_step(st);
-	if (rc == SQLITE_DONE) {
+	if (!found) {
 		r = 0;		/* no such matrix: *mxp stays NULL */
 		goto out;
 	}
-	if (rc != SQLITE_ROW) {
-		r = db_fail(db, rc, "looking up a matrix", e);
-		goto out;
-	}
-	sqlite3_finalize(st);
-	st = NULL;
 
 	mx = matrix_new(name);
 	if ((r = db_prepare(db, "SELECT src, dst, rate_bps, priority "
@@ -175,6 +149,7 @@ check_nodes(struct db *db, const struct matrix *mx, struct err *e)
 	const char *id;
 	char where[48];
 	size_t i;
+	bool found;
 	int end, r = ERR_INTERNAL, rc;
 
 	if ((r = db_prepare(db, "SELECT 1 FROM nodes WHERE id = ?1", &st,
@@ -190,17 +165,15 @@ check_nodes(struct db *db, const struct matrix *mx, struct err *e)
 				r = db_fail(db, rc, "binding a node id", e);
 				goto out;
 			}
-			rc = sqlite3_step(st);
-			if (rc == SQLITE_DONE) {
+			if ((r = db_step(db, st, &found, "looking up a node",
+			    e)) != 0)
+				goto out;
+			if (!found) {
 				snprintf(where, sizeof(where),
 				    "demands[%zu].%s", i, end == 0 ? "src" :
 				    "dst");
 				r = err_set(e, ERR_INVALID, where,
 				    "unknown node \"%s\"", id);
-				goto out;
-			}
-			if (rc != SQLITE_ROW) {
-				r = db_fail(db, rc, "looking up a node", e);
 				goto out;
 			}
 		}
@@ -227,9 +200,8 @@ db_put_matrix(struct db *db, const char *name, const struct matrix *mx,
 	}
 	if ((r = matrix_check(mx, e)) != 0)
 		goto out;
-	if ((r = db_begin(db, true, e)) != 0 ||
+	if ((r = db_begin_change(db, &rev, e)) != 0 ||
 	    (r = check_nodes(db, mx, e)) != 0 ||
-	    (r = db_bump_revision(db, &rev, e)) != 0 ||
 	    (r = db_write_matrix(db, name, mx, rev, e)) != 0 ||
 	    (r = db_commit(db, e)) != 0)
 		goto out;
@@ -245,39 +217,26 @@ int
 db_delete_matrix(struct db *db, const char *name, int64_t *revp,
     struct err *e)
 {
-	sqlite3_stmt *st = NULL;
 	int64_t rev = 0;
-	int r = ERR_INTERNAL, rc;
+	int r = ERR_INTERNAL;
 
 	*revp = 0;
 	if ((r = db_check_name(name, "name", e)) != 0)
 		goto out;
-	if ((r = db_begin(db, true, e)) != 0)
-		goto out;
 	/* Its demands go with it (ON DELETE CASCADE). */
-	if ((r = db_prepare(db, "DELETE FROM matrices WHERE name = ?1", &st,
-	    e)) != 0)
+	if ((r = db_begin_change(db, &rev, e)) != 0 ||
+	    (r = db_run_key(db, "DELETE FROM matrices WHERE name = ?1", name,
+	    NULL, "deleting a matrix", e)) != 0)
 		goto out;
-	if ((rc = sqlite3_bind_text(st, 1, name, -1, SQLITE_STATIC)) !=
-	    SQLITE_OK) {
-		r = db_fail(db, rc, "binding a matrix name", e);
-		goto out;
-	}
-	if ((rc = sqlite3_step(st)) != SQLITE_DONE) {
-		r = db_fail(db, rc, "deleting a matrix", e);
-		goto out;
-	}
 	if (sqlite3_changes(db->sq) == 0) {
 		r = err_set(e, ERR_NOTFOUND, "name", "no matrix \"%s\"", name);
 		goto out;
 	}
-	if ((r = db_bump_revision(db, &rev, e)) != 0 ||
-	    (r = db_commit(db, e)) != 0)
+	if ((r = db_commit(db, e)) != 0)
 		goto out;
 	*revp = rev;
 	r = 0;
 out:
-	sqlite3_finalize(st);
 	if (r != 0)
 		db_rollback(db);
 	return r;

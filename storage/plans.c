@@ -37,26 +37,6 @@ db_record_plan(struct db *db, int64_t plan_revision, int64_t
 	}
 	if ((r = db_begin(db, true, e)) != 0)
 		goto out;
-	if ((r = db_prepare(db, "SELECT 1 FROM plan_history "
-	    "WHERE plan_revision = ?1", &st, e)) != 0)
-		goto out;
-	if ((rc = sqlite3_bind_int64(st, 1, plan_revision)) != SQLITE_OK) {
-		r = db_fail(db, rc, "binding a plan revision", e);
-		goto out;
-	}
-	rc = sqlite3_step(st);
-	if (rc == SQLITE_ROW) {
-		r = err_set(e, ERR_CONFLICT, "plan_revision", "plan revision "
-		    "%lld is already recorded", (long long)plan_revision);
-		goto out;
-	}
-	if (rc != SQLITE_DONE) {
-		r = db_fail(db, rc, "looking up a plan", e);
-		goto out;
-	}
-	sqlite3_finalize(st);
-	st = NULL;
-
 	if ((r = db_prepare(db, "INSERT INTO plan_history (plan_revision, "
 	    "model_revision, created_at, summary_json) "
 	    "VALUES (?1, ?2, ?3, ?4)", &st, e)) != 0)
@@ -70,7 +50,15 @@ db_record_plan(struct db *db, int64_t plan_revision, int64_t
 		r = db_fail(db, rc, "binding a plan", e);
 		goto out;
 	}
-	if ((rc = sqlite3_step(st)) != SQLITE_DONE) {
+	/* plan_revision is the primary key: a revision recorded before
+	   clashes here. */
+	rc = sqlite3_step(st);
+	if (rc == SQLITE_CONSTRAINT_PRIMARYKEY) {
+		r = err_set(e, ERR_CONFLICT, "plan_revision", "plan revision "
+		    "%lld is already recorded", (long long)plan_revision);
+		goto out;
+	}
+	if (rc != SQLITE_DONE) {
 		r = db_fail(db, rc, "recording a plan", e);
 		goto out;
 	}
@@ -86,11 +74,8 @@ db_record_plan(struct db *db, int64_t plan_revision, int64_t
 		r = db_fail(db, rc, "binding the history length", e);
 		goto out;
 	}
-	if ((rc = sqlite3_step(st)) != SQLITE_DONE) {
-		r = db_fail(db, rc, "trimming the plan history", e);
-		goto out;
-	}
-	if ((r = db_commit(db, e)) != 0)
+	if ((r = db_step(db, st, NULL, "trimming the plan history", e)) != 0 ||
+	    (r = db_commit(db, e)) != 0)
 		goto out;
 	r = 0;
 out:

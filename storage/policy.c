@@ -13,45 +13,12 @@
 #include "../daemon/base/xalloc.h"
 #include "../daemon/engine/model.h"
 
-/* The objective as stored: words, so the file reads without our enum. */
-static const struct {
-	enum objective obj;
-	const char *word;
-} objectives[] = {
-	{ OBJ_COST, "cost" },
-	{ OBJ_BALANCE, "balance" },
-};
-
-static const char *
-objective_word(enum objective obj)
-{
-	size_t i;
-
-	for (i = 0; i < sizeof(objectives) / sizeof(objectives[0]); i++)
-		if (objectives[i].obj == obj)
-			return objectives[i].word;
-	return NULL;
-}
-
-static int
-objective_parse(const char *word, enum objective *objp)
-{
-	size_t i;
-
-	for (i = 0; i < sizeof(objectives) / sizeof(objectives[0]); i++)
-		if (word != NULL && strcmp(objectives[i].word, word) == 0) {
-			*objp = objectives[i].obj;
-			return 0;
-		}
-	return ERR_INVALID;
-}
-
 int
 db_put_policy(struct db *db, const struct policy *p, int64_t *revp,
     struct err *e)
 {
 	sqlite3_stmt *st = NULL;
-	const char *word;
+	const char *word, *fword;
 	int64_t rev = 0;
 	int r = ERR_INTERNAL, rc;
 
@@ -63,6 +30,18 @@ db_put_policy(struct db *db, const struct policy *p, int64_t *revp,
 	if ((word = objective_word(p->objective)) == NULL) {
 		r = err_set(e, ERR_INVALID, "objective", "unknown objective %d",
 		    (int)p->objective);
+		goto out;
+	}
+	if ((fword = formulation_word(p->formulation)) == NULL) {
+		r = err_set(e, ERR_INVALID, "formulation",
+		    "unknown formulation %d", (int)p->formulation);
+		goto out;
+	}
+	if (!(p->gap_target >= 0 && p->gap_target <= 0.5) ||
+	    !(p->keep_paths_tol >= 0 && p->keep_paths_tol <= 0.5)) {
+		r = err_set(e, ERR_INVALID, !(p->gap_target >= 0 &&
+		    p->gap_target <= 0.5) ? "gap_target" : "keep_paths_tol",
+		    "must be in [0, 0.5]");
 		goto out;
 	}
 	if (!isfinite(p->headroom) || p->headroom <= 0 || p->headroom > 1) {
@@ -79,27 +58,30 @@ db_put_policy(struct db *db, const struct policy *p, int64_t *revp,
 	    e)) != 0)
 		goto out;
 
-	if ((r = db_begin(db, true, e)) != 0 ||
-	    (r = db_bump_revision(db, &rev, e)) != 0)
+	if ((r = db_begin_change(db, &rev, e)) != 0)
 		goto out;
 	if ((r = db_prepare(db, "INSERT OR REPLACE INTO policy (id, objective, "
-	    "headroom, matrix, balance_tol) VALUES (1, ?1, ?2, ?3, ?4)", &st,
-	    e)) != 0)
+	    "headroom, matrix, balance_tol, formulation, gap_target, "
+	    "keep_paths, keep_paths_tol) VALUES (1, ?1, ?2, ?3, ?4, ?5, ?6, "
+	    "?7, ?8)", &st, e)) != 0)
 		goto out;
 	if ((rc = sqlite3_bind_text(st, 1, word, -1, SQLITE_STATIC)) !=
 	    SQLITE_OK ||
 	    (rc = sqlite3_bind_double(st, 2, p->headroom)) != SQLITE_OK ||
 	    (rc = p->matrix != NULL ? sqlite3_bind_text(st, 3, p->matrix, -1,
 	    SQLITE_STATIC) : sqlite3_bind_null(st, 3)) != SQLITE_OK ||
-	    (rc = sqlite3_bind_double(st, 4, p->balance_tol)) != SQLITE_OK) {
+	    (rc = sqlite3_bind_double(st, 4, p->balance_tol)) != SQLITE_OK ||
+	    (rc = sqlite3_bind_text(st, 5, fword, -1, SQLITE_STATIC)) !=
+	    SQLITE_OK ||
+	    (rc = sqlite3_bind_double(st, 6, p->gap_target)) != SQLITE_OK ||
+	    (rc = sqlite3_bind_int(st, 7, p->keep_paths ? 1 : 0)) !=
+	    SQLITE_OK ||
+	    (rc = sqlite3_bind_double(st, 8, p->keep_paths_tol)) != SQLITE_OK) {
 		r = db_fail(db, rc, "binding the policy", e);
 		goto out;
 	}
-	if ((rc = sqlite3_step(st)) != SQLITE_DONE) {
-		r = db_fail(db, rc, "storing the policy", e);
-		goto out;
-	}
-	if ((r = db_commit(db, e)) != 0)
+	if ((r = db_step(db, st, NULL, "storing the policy", e)) != 0 ||
+	    (r = db_commit(db, e)) != 0)
 		goto out;
 	*revp = rev;
 	r = 0;
@@ -116,20 +98,19 @@ db_read_policy(struct db *db, struct policy *p, struct err *e)
 	sqlite3_stmt *st = NULL;
 	const char *word;
 	enum objective obj;
-	int r = ERR_INTERNAL, rc;
+	enum formulation form;
+	bool found;
+	int r = ERR_INTERNAL;
 
 	policy_clear(p);
 	policy_default(p);
 	if ((r = db_prepare(db, "SELECT objective, headroom, matrix, "
-	    "balance_tol FROM policy WHERE id = 1", &st, e)) != 0)
+	    "balance_tol, formulation, gap_target, keep_paths, keep_paths_tol "
+	    "FROM policy WHERE id = 1", &st, e)) != 0 ||
+	    (r = db_step(db, st, &found, "reading the policy", e)) != 0)
 		goto out;
-	rc = sqlite3_step(st);
-	if (rc == SQLITE_DONE) {
+	if (!found) {
 		r = 0;		/* none stored: the default stands */
-		goto out;
-	}
-	if (rc != SQLITE_ROW) {
-		r = db_fail(db, rc, "reading the policy", e);
 		goto out;
 	}
 	word = (const char *)sqlite3_column_text(st, 0);
@@ -138,10 +119,20 @@ db_read_policy(struct db *db, struct policy *p, struct err *e)
 		    "objective \"%s\"", word != NULL ? word : "");
 		goto out;
 	}
+	word = (const char *)sqlite3_column_text(st, 4);
+	if (formulation_parse(word, &form) != 0) {
+		r = err_set(e, ERR_DB, NULL, "stored policy has an unknown "
+		    "formulation \"%s\"", word != NULL ? word : "");
+		goto out;
+	}
 	p->objective = obj;
 	p->headroom = sqlite3_column_double(st, 1);
 	p->matrix = db_column_strdup(st, 2);
 	p->balance_tol = sqlite3_column_double(st, 3);
+	p->formulation = form;
+	p->gap_target = sqlite3_column_double(st, 5);
+	p->keep_paths = sqlite3_column_int(st, 6) != 0;
+	p->keep_paths_tol = sqlite3_column_double(st, 7);
 	r = 0;
 out:
 	sqlite3_finalize(st);

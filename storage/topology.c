@@ -117,12 +117,36 @@ check_topology(const struct model *topo, struct err *e)
 
 /* ---- writing ---- */
 
+/*
+ * Steps the bound insert of the i-th node or link (kind "node" or "link",
+ * id its id).  An id inserted before is ERR_INVALID at "nodes[i].id" or
+ * "links[i].id"; any other failure is db_fail()'s.
+ */
+static int
+insert_item(struct db *db, sqlite3_stmt *st, const char *kind, size_t i,
+    const char *id, struct err *e)
+{
+	char where[48], what[32];
+	int rc;
+
+	rc = sqlite3_step(st);
+	if (rc == SQLITE_CONSTRAINT_PRIMARYKEY) {
+		snprintf(where, sizeof(where), "%ss[%zu].id", kind, i);
+		return err_set(e, ERR_INVALID, where,
+		    "duplicate %s id \"%s\"", kind, id);
+	}
+	if (rc != SQLITE_DONE) {
+		snprintf(what, sizeof(what), "storing a %s", kind);
+		return db_fail(db, rc, what, e);
+	}
+	return 0;
+}
+
 static int
 put_nodes(struct db *db, const struct model *topo, struct err *e)
 {
 	sqlite3_stmt *st = NULL;
 	const struct node *nd;
-	char where[48];
 	size_t i;
 	int r = ERR_INTERNAL, rc;
 
@@ -146,17 +170,8 @@ put_nodes(struct db *db, const struct model *topo, struct err *e)
 			r = db_fail(db, rc, "binding a node", e);
 			goto out;
 		}
-		rc = sqlite3_step(st);
-		if (rc == SQLITE_CONSTRAINT_PRIMARYKEY) {
-			snprintf(where, sizeof(where), "nodes[%zu].id", i);
-			r = err_set(e, ERR_INVALID, where,
-			    "duplicate node id \"%s\"", nd->id);
+		if ((r = insert_item(db, st, "node", i, nd->id, e)) != 0)
 			goto out;
-		}
-		if (rc != SQLITE_DONE) {
-			r = db_fail(db, rc, "storing a node", e);
-			goto out;
-		}
 	}
 	r = 0;
 out:
@@ -169,7 +184,6 @@ put_links(struct db *db, const struct model *topo, struct err *e)
 {
 	sqlite3_stmt *st = NULL;
 	const struct link *l;
-	char where[48];
 	size_t i;
 	int r = ERR_INTERNAL, rc;
 
@@ -197,17 +211,8 @@ put_links(struct db *db, const struct model *topo, struct err *e)
 			r = db_fail(db, rc, "binding a link", e);
 			goto out;
 		}
-		rc = sqlite3_step(st);
-		if (rc == SQLITE_CONSTRAINT_PRIMARYKEY) {
-			snprintf(where, sizeof(where), "links[%zu].id", i);
-			r = err_set(e, ERR_INVALID, where,
-			    "duplicate link id \"%s\"", l->id);
+		if ((r = insert_item(db, st, "link", i, l->id, e)) != 0)
 			goto out;
-		}
-		if (rc != SQLITE_DONE) {
-			r = db_fail(db, rc, "storing a link", e);
-			goto out;
-		}
 	}
 	r = 0;
 out:
@@ -244,8 +249,7 @@ db_put_topology(struct db *db, const struct model *topo, int64_t *revp,
 	}
 	if ((r = check_topology(topo, e)) != 0)
 		goto out;
-	if ((r = db_begin(db, true, e)) != 0 ||
-	    (r = db_bump_revision(db, &rev, e)) != 0 ||
+	if ((r = db_begin_change(db, &rev, e)) != 0 ||
 	    (r = replace_topology(db, topo, e)) != 0 ||
 	    (r = db_commit(db, e)) != 0)
 		goto out;
@@ -317,8 +321,7 @@ db_put_network(struct db *db, const struct model *net, const char *name,
 		goto out;
 	/* The other matrices stay as they are, even those naming nodes the
 	   new topology lacks (see DESIGN). */
-	if ((r = db_begin(db, true, e)) != 0 ||
-	    (r = db_bump_revision(db, &rev, e)) != 0 ||
+	if ((r = db_begin_change(db, &rev, e)) != 0 ||
 	    (r = replace_topology(db, net, e)) != 0 ||
 	    (r = db_write_matrix(db, name, mx, rev, e)) != 0 ||
 	    (r = db_commit(db, e)) != 0)
@@ -332,40 +335,12 @@ out:
 	return r;
 }
 
-static int
-link_exists(struct db *db, const char *id, bool *existsp, struct err *e)
-{
-	sqlite3_stmt *st = NULL;
-	int r = ERR_INTERNAL, rc;
-
-	*existsp = false;
-	if ((r = db_prepare(db, "SELECT 1 FROM links WHERE id = ?1", &st,
-	    e)) != 0)
-		goto out;
-	if ((rc = sqlite3_bind_text(st, 1, id, -1, SQLITE_STATIC)) !=
-	    SQLITE_OK) {
-		r = db_fail(db, rc, "binding a link id", e);
-		goto out;
-	}
-	rc = sqlite3_step(st);
-	if (rc != SQLITE_ROW && rc != SQLITE_DONE) {
-		r = db_fail(db, rc, "looking up a link", e);
-		goto out;
-	}
-	*existsp = rc == SQLITE_ROW;
-	r = 0;
-out:
-	sqlite3_finalize(st);
-	return r;
-}
-
 int
 db_patch_link(struct db *db, const char *id, const struct link_patch *lp,
     int64_t *revp, struct err *e)
 {
 	sqlite3_stmt *st = NULL;
 	int64_t rev = 0;
-	bool exists;
 	int r = ERR_INTERNAL, rc;
 
 	*revp = 0;
@@ -389,17 +364,9 @@ db_patch_link(struct db *db, const char *id, const struct link_patch *lp,
 		    "TE metric must be in (0, %g]", MODEL_METRIC_MAX);
 		goto out;
 	}
-	if ((r = db_begin(db, true, e)) != 0 ||
-	    (r = link_exists(db, id, &exists, e)) != 0)
-		goto out;
-	if (!exists) {
-		r = err_set(e, ERR_NOTFOUND, "id", "no link \"%s\"", id);
-		goto out;
-	}
-	if ((r = db_bump_revision(db, &rev, e)) != 0)
-		goto out;
 	/* A NULL parameter keeps the stored value. */
-	if ((r = db_prepare(db, "UPDATE links SET up = coalesce(?2, up), "
+	if ((r = db_begin_change(db, &rev, e)) != 0 ||
+	    (r = db_prepare(db, "UPDATE links SET up = coalesce(?2, up), "
 	    "capacity_bps = coalesce(?3, capacity_bps), "
 	    "te_metric = coalesce(?4, te_metric) WHERE id = ?1", &st, e)) != 0)
 		goto out;
@@ -414,8 +381,11 @@ db_patch_link(struct db *db, const char *id, const struct link_patch *lp,
 		r = db_fail(db, rc, "binding a link change", e);
 		goto out;
 	}
-	if ((rc = sqlite3_step(st)) != SQLITE_DONE) {
-		r = db_fail(db, rc, "changing a link", e);
+	if ((r = db_step(db, st, NULL, "changing a link", e)) != 0)
+		goto out;
+	/* A row counts as changed even when it keeps every value. */
+	if (sqlite3_changes(db->sq) == 0) {
+		r = err_set(e, ERR_NOTFOUND, "id", "no link \"%s\"", id);
 		goto out;
 	}
 	if ((r = db_commit(db, e)) != 0)

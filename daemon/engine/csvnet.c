@@ -13,9 +13,10 @@
  * ROW_FIELDS fields that carry data, and any further fields must be empty
  * (spreadsheets pad short rows with commas).  Values may not hold control
  * characters, so a line break inside quotes is refused rather than kept.
- * Numbers are checked character by character before strtod() sees them:
- * no NaN, no infinity, no hex.  Writing prints each number in its shortest
- * form that reads back to the same double.  Runs on the caller's thread.
+ * Numbers are checked character by character before strtod() sees them
+ * (num_parse()): no NaN, no infinity, no hex.  Writing prints each number
+ * in its shortest form that reads back to the same double.  Runs on the
+ * caller's thread.
  */
 
 #include <math.h>
@@ -28,12 +29,12 @@
 
 #include "csvnet.h"
 #include "model.h"
+#include "num.h"
 #include "../base/err.h"
 #include "../base/xalloc.h"
 
 #define ROW_FIELDS	8	/* fields a row may fill */
 #define FIELD_MAX	512	/* longest field, bytes (> names and ids) */
-#define NUM_MAX		63	/* longest number, bytes */
 
 enum kind {
 	KIND_NODE,
@@ -49,13 +50,6 @@ static const struct {
 	[KIND_NODE] = { "node", 5 },
 	[KIND_LINK] = { "link", 7 },
 	[KIND_DEMAND] = { "demand", 5 },
-};
-
-static const struct {
-	char suffix;
-	double scale;
-} si[] = {
-	{ 'k', 1e3 }, { 'K', 1e3 }, { 'M', 1e6 }, { 'G', 1e9 }, { 'T', 1e12 },
 };
 
 struct field {
@@ -307,52 +301,12 @@ static int
 number(struct ctx *c, const struct field *fl, bool is_signed, bool si_ok,
     double *vp, const char *what)
 {
-	char buf[NUM_MAX + 1], *end;
-	double scale = 1;
-	size_t i = 0, n = fl->n, k;
-	bool digits = false;
+	struct err le;
 
-	*vp = 0;
-	if (si_ok && n > 0) {
-		for (k = 0; k < sizeof(si) / sizeof(si[0]); k++) {
-			if (fl->s[n - 1] == si[k].suffix) {
-				scale = si[k].scale;
-				n--;
-				break;
-			}
-		}
-	}
-	if (n > NUM_MAX)
-		return fail(c, "%s: number too long", what);
-	if (i < n && (fl->s[i] == '-' || fl->s[i] == '+')) {
-		if (fl->s[i] == '-' && !is_signed)
-			return fail(c, "%s must not be negative: \"%.*s\"",
-			    what, SHOW(fl));
-		i++;
-	}
-	for (; i < n; i++) {
-		char ch = fl->s[i];
-
-		if (ch >= '0' && ch <= '9')
-			digits = true;
-		else if (ch == '.')
-			;
-		else if ((ch == 'e' || ch == 'E') && digits && i + 1 < n) {
-			if (fl->s[i + 1] == '-' || fl->s[i + 1] == '+')
-				i++;
-		} else
-			break;
-	}
-	if (i != n || !digits)
-		return fail(c, "%s: not a number%s: \"%.*s\"", what,
-		    si_ok ? " (SI suffixes: k, M, G, T)" : "", SHOW(fl));
-	memcpy(buf, fl->s, n);
-	buf[n] = '\0';
-	*vp = strtod(buf, &end);
-	if (*end != '\0' || !isfinite(*vp) || !isfinite(*vp * scale))
-		return fail(c, "%s: not a finite number: \"%.*s\"", what,
-		    SHOW(fl));
-	*vp *= scale;
+	err_clear(&le);
+	if (num_parse(fl->s, fl->n, (is_signed ? NUM_SIGNED : 0) |
+	    (si_ok ? NUM_SI : 0), what, vp, &le) != 0)
+		return fail(c, "%s", le.msg);
 	return 0;
 }
 

@@ -4,8 +4,9 @@
 /*
  * DESIGN
  * engine_solve() checks the model before anything reaches GLPK (GLPK ends
- * the process on invalid calls), then hands it to the node-arc
- * formulation (form_arc.c).  GLPK keeps one environment per thread;
+ * the process on invalid calls), then hands it to the formulation the
+ * policy names: node-arc (form_arc.c) or path (form_path.c, with a
+ * throw-away state unless engine_solve_warm() keeps one).  GLPK keeps one environment per thread;
  * engine_thread_done() frees the calling thread's.
  */
 
@@ -16,6 +17,7 @@
 
 #include "engine.h"
 #include "form_arc.h"
+#include "form_path.h"
 #include "lp.h"
 #include "../base/err.h"
 #include "../base/xalloc.h"
@@ -150,15 +152,29 @@ engine_check(const struct model *m, struct err *e)
 			return err_set(e, ERR_INVALID, where,
 			    "priority must be in 0..%d", MODEL_PRIO_MAX);
 	}
-	if (pol->objective != OBJ_COST && pol->objective != OBJ_BALANCE)
+	if (pol->objective != OBJ_COST && pol->objective != OBJ_BALANCE &&
+	    pol->objective != OBJ_CONGESTION)
 		return err_set(e, ERR_INVALID, "policy.objective",
 		    "unknown objective %d", (int)pol->objective);
+	/* XXX form_path.c has no congestion stage yet. */
+	if (pol->objective == OBJ_CONGESTION && pol->formulation == FORM_PATH)
+		return err_set(e, ERR_INVALID, "policy.objective",
+		    "the congestion objective needs the node-arc formulation");
 	if (!(pol->headroom > 0 && pol->headroom <= 1))
 		return err_set(e, ERR_INVALID, "policy.headroom",
 		    "headroom must be in (0, 1]");
 	if (!(pol->balance_tol >= 0 && pol->balance_tol <= 0.1))
 		return err_set(e, ERR_INVALID, "policy.balance_tol",
 		    "balance tolerance must be in [0, 0.1]");
+	if (pol->formulation != FORM_ARC && pol->formulation != FORM_PATH)
+		return err_set(e, ERR_INVALID, "policy.formulation",
+		    "unknown formulation %d", (int)pol->formulation);
+	if (!(pol->gap_target >= 0 && pol->gap_target <= 0.5))
+		return err_set(e, ERR_INVALID, "policy.gap_target",
+		    "gap target must be in [0, 0.5]");
+	if (!(pol->keep_paths_tol >= 0 && pol->keep_paths_tol <= 0.5))
+		return err_set(e, ERR_INVALID, "policy.keep_paths_tol",
+		    "keep-paths tolerance must be in [0, 0.5]");
 	return 0;
 }
 
@@ -173,9 +189,27 @@ solve_opts_default(struct solve_opts *o)
 	o->export_format = EXPORT_LP;
 }
 
+/* Fills the summary fields the node-arc formulation leaves unset. */
+static void
+arc_summary(struct plan *p)
+{
+	size_t i;
+
+	p->formulation = FORM_ARC;
+	p->iterations = 0;
+	for (i = 0; i < p->n_stages; i++)
+		p->iterations += p->stages[i].iterations;
+	p->gap = 0;
+	p->bound = p->n_stages > 0 ? p->stages[p->n_stages - 1].objective :
+	    0;
+	p->cg_rounds = 0;
+	p->warm = false;
+	p->moved_bps = -1;
+}
+
 int
-engine_solve(const struct model *m, const struct solve_opts *o,
-    struct plan **planp, struct err *e)
+engine_solve_warm(struct engine_state **stp, const struct model *m,
+    const struct solve_opts *o, struct plan **planp, struct err *e)
 {
 	struct solve_opts def;
 	int r;
@@ -187,7 +221,39 @@ engine_solve(const struct model *m, const struct solve_opts *o,
 	}
 	if ((r = engine_check(m, e)) != 0)
 		return r;
-	return form_arc_solve(m, o, planp, e);
+	if (m->policy.formulation == FORM_PATH && o->export_path == NULL)
+		return form_path_solve(stp, m, o, planp, e);
+	/*
+	 * An export writes the node-arc LP whatever the formulation: the
+	 * path master is not a model another solver could take alone.  Such
+	 * a one-off solve leaves a kept state alone.
+	 */
+	if (m->policy.formulation != FORM_PATH) {
+		engine_state_free(*stp);
+		*stp = NULL;
+	}
+	if ((r = form_arc_solve(m, o, planp, e)) != 0)
+		return r;
+	arc_summary(*planp);
+	return 0;
+}
+
+int
+engine_solve(const struct model *m, const struct solve_opts *o,
+    struct plan **planp, struct err *e)
+{
+	struct engine_state *st = NULL;
+	int r;
+
+	r = engine_solve_warm(&st, m, o, planp, e);
+	engine_state_free(st);
+	return r;
+}
+
+void
+engine_state_free(struct engine_state *st)
+{
+	form_path_state_free(st);
 }
 
 void

@@ -25,6 +25,12 @@
  *   3. minimise sum TE metric x flow (cost).
  * The plan's routes come from decomposing each source's arc flows into
  * paths; loads, costs and totals are recomputed from those paths.
+ *
+ * policy.formulation picks the formulation.  The path formulation
+ * (form_path.c) runs the same stages, each as column generation on a
+ * master LP over path columns, and can keep that master between solves
+ * (struct engine_state): a model with the same structure is then solved
+ * by editing bounds and re-optimising from the kept basis.
  */
 
 #include "model.h"
@@ -60,6 +66,36 @@ void solve_opts_default(struct solve_opts *o);
  */
 int engine_solve(const struct model *m, const struct solve_opts *o,
     struct plan **planp, struct err *e);
+
+/*
+ * The solver state kept between solves of one model's revisions: the
+ * path formulation's master LP, its column pool and basis, and the flows
+ * of the last plan.  Opaque; owned by one thread at a time (GLPK objects
+ * inside), freed with engine_state_free() on that thread.
+ */
+struct engine_state;
+
+/*
+ * As engine_solve(), keeping state in *stp (NULL at first; the call
+ * creates it).  With policy.formulation FORM_PATH, when *stp was built for
+ * a model with the same node ids, link ids, ends and TE metrics, and the
+ * same demand list (ends and priority per index), the changes since
+ * (links up or down, capacities, rates, objective, headroom, tolerances)
+ * are applied to the kept master and it is re-optimised from its basis:
+ * plan->warm is true and plan->moved_bps tells how much traffic changed
+ * paths since the previous plan.  Otherwise the master is built afresh
+ * (plan->warm false).  policy.keep_paths then prefers the previous plan's
+ * paths within policy.keep_paths_tol of the optimal cost.  With FORM_ARC
+ * the state is freed (*stp becomes NULL) and the model solved as by
+ * engine_solve().  An export (o->export_path) always writes and solves
+ * the node-arc LP, leaving a path state as it was.  On error from the
+ * path formulation *stp is freed and NULL; *planp is NULL on any error.
+ */
+int engine_solve_warm(struct engine_state **stp, const struct model *m,
+    const struct solve_opts *o, struct plan **planp, struct err *e);
+
+/* Frees st (NULL ok), on the thread that used it. */
+void engine_state_free(struct engine_state *st);
 
 /* Checks a model without solving it: 0 or ERR_INVALID with detail. */
 int engine_check(const struct model *m, struct err *e);

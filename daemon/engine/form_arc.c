@@ -21,6 +21,19 @@
  * Conservation at s itself follows from the rows of the other nodes and
  * is left out.  U stays fixed at h until balance() moves it.
  *
+ * The congestion objective adds, after admission, per up arc a:
+ *
+ *   l[a] >= 0, phi[a] >= 0   load and congestion cost, LP units
+ *   load_a:    sum_s f[s][a] - l[a] = 0
+ *   phi_a_i:   phi[a] - slope_i l[a] >= -b_i c_a   for the 6 pieces
+ *              (congestion.h), so phi[a] >= Phi(l[a], c_a) and equals
+ *              it wherever phi[a] has a positive price
+ *
+ * Phi is positively homogeneous (Phi(x l, x c) = x Phi(l, c)), so in LP
+ * units it is the bit/s value divided by the scale.  Capacity rows stay
+ * hard (load <= h c): the pieces above utilisation 1 bind only with h = 1
+ * at full load, where they equal the piece below.
+ *
  * Stages (one plan_stage each; the LP and its basis carry over):
  *   admit     min n x sum u + cost, from a crash basis of shortest-path
  *             trees (crash_basis()) with the dual simplex.  Uncongested
@@ -30,6 +43,8 @@
  *             (primal simplex), then a row keeps the class within its
  *             optimum; saturated links and shadow prices come from here.
  *   balance   Newton's method on U (see balance()).
+ *   congestion  min sum phi (see congestion()), then a row keeps sum phi
+ *             within balance_tol of that optimum.
  *   cost      min sum (metric_a / max metric) f[s][a].
  *
  * GLPK runs with a bound tolerance of 1e-10 (lp.c): demands of a few
@@ -49,6 +64,7 @@
 #include <time.h>
 
 #include "form_arc.h"
+#include "congestion.h"
 #include "decomp.h"
 #include "lp.h"
 #include "../base/err.h"
@@ -67,6 +83,8 @@
 #define SERVED_REL	1e-9
 /* Smallest shadow price (bit/s per bit/s) that marks a link saturated. */
 #define PRICE_MIN	1e-9
+/* Slack on sum phi when it is capped, absolute, on top of balance_tol. */
+#define PHI_ABS		1e-12
 /* Newton steps allowed to find the smallest U (balance()). */
 #define BALANCE_STEPS_MAX	100
 
@@ -80,6 +98,7 @@ struct arcform {
 	double metric_max;	/* largest TE metric of an up link */
 	double headroom;
 	bool balance;
+	bool congestion;	/* the congestion objective */
 	size_t n;		/* nodes */
 	size_t n_arcs;		/* model arcs: 2 per link */
 	size_t n_src;
@@ -89,6 +108,8 @@ struct arcform {
 	int *fcol;		/* source x model arc -> column, or -1 */
 	int *ucol;		/* demand -> column, or -1 (rate 0) */
 	int ucol_U;		/* U's column, or -1 */
+	int *phicol;		/* model arc -> phi column, or -1 (congestion
+				   only, added by congestion()) */
 	int vcol[MODEL_PRIO_MAX + 1];	/* class -> excess column, or -1 */
 	bool all_fit;		/* admission left nothing unserved */
 	enum lp_method cost_method;	/* for the last stage */
@@ -133,6 +154,7 @@ setup(struct arcform *f, struct err *e)
 	f->n_arcs = 2 * m->n_links;
 	f->headroom = m->policy.headroom;
 	f->balance = m->policy.objective == OBJ_BALANCE;
+	f->congestion = m->policy.objective == OBJ_CONGESTION;
 	f->src_of = xcalloc(f->n, sizeof(*f->src_of));
 	f->src_node = xcalloc(f->n, sizeof(*f->src_node));
 	for (i = 0; i < f->n; i++)
@@ -953,6 +975,102 @@ balance(struct arcform *f, struct err *e)
 	return 0;
 }
 
+/*
+ * Stage 2 (congestion only): minimise sum phi over the admitted traffic,
+ * then cap sum phi there (plus balance_tol), as balance caps U.
+ *
+ * The load and piece rows join the LP only now, so admission is the same
+ * for every objective.  New rows start with their slacks basic and new
+ * columns non-basic at 0; with the objective on the phi columns alone the
+ * basic variables all cost 0, so every reduced cost is the column's own
+ * cost, >= 0: the basis is dual feasible and the dual simplex repairs the
+ * rows that the current flows violate.
+ */
+static int
+congestion(struct arcform *f, struct err *e)
+{
+	const struct model *m = f->m;
+	const struct congestion_piece *pc;
+	char name[64];
+	size_t si, a;
+	int *rc, *pcol, n_rc, j, row, lcol, i, r;
+	double *rv, c, z;
+
+	f->phicol = xcalloc(f->n_arcs, sizeof(*f->phicol));
+	rc = xcalloc(f->n_src + 1, sizeof(*rc));
+	rv = xcalloc(f->n_src + 1, sizeof(*rv));
+	pcol = xcalloc(f->n_arcs + 1, sizeof(*pcol));
+	lp_clear_obj(f->lp);
+	for (a = 0; a < f->n_arcs; a++) {
+		f->phicol[a] = -1;
+		if (f->cap_row[a] < 0)
+			continue;
+		c = m->links[a / 2].capacity_bps / f->scale;
+		lcol = lp_add_cols(f->lp, 2);
+		f->phicol[a] = lcol + 1;
+		lp_set_col_bounds(f->lp, lcol, 0, INFINITY);
+		lp_set_col_bounds(f->lp, lcol + 1, 0, INFINITY);
+		snprintf(name, sizeof(name), "l_%zu_%s", a / 2,
+		    a % 2 == 0 ? "ab" : "ba");
+		lp_set_col_name(f->lp, lcol, name);
+		snprintf(name, sizeof(name), "phi_%zu_%s", a / 2,
+		    a % 2 == 0 ? "ab" : "ba");
+		lp_set_col_name(f->lp, lcol + 1, name);
+		lp_set_obj(f->lp, lcol + 1, 1);
+
+		n_rc = 0;
+		for (si = 0; si < f->n_src; si++)
+			if ((j = f->fcol[si * f->n_arcs + a]) >= 0) {
+				rc[n_rc] = j;
+				rv[n_rc++] = 1;
+			}
+		rc[n_rc] = lcol;
+		rv[n_rc++] = -1;
+		row = lp_add_row(f->lp, n_rc, rc, rv, 0, 0);
+		snprintf(name, sizeof(name), "load_%zu_%s", a / 2,
+		    a % 2 == 0 ? "ab" : "ba");
+		lp_set_row_name(f->lp, row, name);
+
+		for (i = 0; i < CONGESTION_PIECES; i++) {
+			pc = &congestion_pieces[i];
+			rc[0] = lcol + 1;
+			rv[0] = 1;
+			rc[1] = lcol;
+			rv[1] = -pc->slope;
+			row = lp_add_row(f->lp, 2, rc, rv,
+			    -pc->intercept * c, INFINITY);
+			snprintf(name, sizeof(name), "phi_%zu_%s_%d", a / 2,
+			    a % 2 == 0 ? "ab" : "ba", i + 1);
+			lp_set_row_name(f->lp, row, name);
+		}
+	}
+	if ((r = stage(f, "congestion", LP_DUAL, f->scale, false, &z,
+	    e)) != 0)
+		goto out;
+
+	/* Later stages may not raise the congestion cost beyond the cap. */
+	n_rc = 0;
+	for (a = 0; a < f->n_arcs; a++)
+		if (f->phicol[a] >= 0)
+			pcol[n_rc++] = f->phicol[a];
+	free(rv);
+	rv = xcalloc((size_t)n_rc + 1, sizeof(*rv));
+	for (i = 0; i < n_rc; i++)
+		rv[i] = 1;
+	/* With every link down there is no phi to cap. */
+	if (n_rc > 0) {
+		row = lp_add_row(f->lp, n_rc, pcol, rv, -INFINITY,
+		    z * (1 + m->policy.balance_tol) + PHI_ABS);
+		lp_set_row_name(f->lp, row, "congestion_cap");
+	}
+	r = 0;
+out:
+	free(rc);
+	free(rv);
+	free(pcol);
+	return r;
+}
+
 /* Stage 3: minimise TE metric x flow. */
 static int
 cost(struct arcform *f, struct err *e)
@@ -1124,8 +1242,11 @@ finish(const struct model *m, struct plan *p, bool empty,
 		pa->capacity_bps = l->up ? l->capacity_bps : 0;
 		pa->util = l->up ? pa->load_bps / l->capacity_bps : 0;
 		pa->headroom_bps = pa->capacity_bps * h - pa->load_bps;
-		if (l->up)
+		if (l->up) {
 			p->max_util = fmax(p->max_util, pa->util);
+			p->congestion += congestion_phi(pa->load_bps,
+			    l->capacity_bps);
+		}
 		p->total_cost += l->te_metric * pa->load_bps;
 		/* Prices only explain traffic that was left unserved. */
 		if (p->status == PLAN_PARTIAL && price != NULL) {
@@ -1189,6 +1310,8 @@ form_arc_solve(const struct model *m, const struct solve_opts *o,
 			goto out;
 		if (f.balance && (r = balance(&f, e)) != 0)
 			goto out;
+		if (f.congestion && (r = congestion(&f, e)) != 0)
+			goto out;
 		if ((r = cost(&f, e)) != 0)
 			goto out;
 		if (o->export_path != NULL && !f.exported) {
@@ -1212,6 +1335,7 @@ out:
 	free(f.cap_row);
 	free(f.fcol);
 	free(f.ucol);
+	free(f.phicol);
 	free(f.d_lp);
 	free(f.price);
 	free(f.sat);

@@ -294,6 +294,40 @@ lp_set_col_entries(struct lp *lp, int j, int n, const int *rows,
 	free(ar);
 }
 
+int
+lp_add_cols_with(struct lp *lp, int n, const size_t *beg, const int *rows,
+    const double *vals, const double *lo, const double *hi,
+    const double *obj)
+{
+	int j0, t;
+
+	assert(n >= 1);
+	j0 = lp_add_cols(lp, n);
+	for (t = 0; t < n; t++) {
+		assert(beg[t + 1] >= beg[t] &&
+		    beg[t + 1] - beg[t] < (size_t)INT32_MAX);
+		lp_set_col_entries(lp, j0 + t, (int)(beg[t + 1] - beg[t]),
+		    rows + beg[t], vals + beg[t]);
+		lp_set_col_bounds(lp, j0 + t, lo[t], hi[t]);
+		lp_set_obj(lp, j0 + t, obj[t]);
+	}
+	return j0;
+}
+
+bool
+lp_row_is_basic(const struct lp *lp, int i)
+{
+	assert(i >= 0 && i < glp_get_num_rows(lp->P));
+	return glp_get_row_stat(lp->P, i + 1) == GLP_BS;
+}
+
+bool
+lp_col_is_basic(const struct lp *lp, int j)
+{
+	assert(j >= 0 && j < glp_get_num_cols(lp->P));
+	return glp_get_col_stat(lp->P, j + 1) == GLP_BS;
+}
+
 struct lp_basis {
 	int m, n;
 	unsigned char *row, *col;	/* GLPK statuses */

@@ -116,8 +116,8 @@ void lp_set_row_stat(struct lp *lp, int i, enum lp_vstat s);
 void lp_set_col_stat(struct lp *lp, int j, enum lp_vstat s);
 
 /*
- * Sets the entries of column j (which has none yet) to n (row, value)
- * pairs with distinct rows.
+ * Sets the entries of column j to n (row, value) pairs with distinct
+ * rows, replacing any it had.
  */
 void lp_set_col_entries(struct lp *lp, int j, int n, const int *rows,
     const double *vals);
@@ -145,6 +145,21 @@ void lp_scale(struct lp *lp);
  */
 int lp_solve(struct lp *lp, const struct lp_params *p,
     struct lp_result *res);
+
+/*
+ * Appends n >= 1 columns at once: column t has bounds lo[t]..hi[t],
+ * objective coefficient obj[t] and the entries rows[beg[t] .. beg[t+1]-1],
+ * vals[same] (distinct rows).  The columns are non-basic at their lower
+ * bound, so a primal feasible basis stays primal feasible.  Returns the
+ * first new column's index.
+ */
+int lp_add_cols_with(struct lp *lp, int n, const size_t *beg,
+    const int *rows, const double *vals, const double *lo,
+    const double *hi, const double *obj);
+
+/* Where row i's auxiliary variable / column j sits: basic or not. */
+bool lp_row_is_basic(const struct lp *lp, int i);
+bool lp_col_is_basic(const struct lp *lp, int j);
 
 /* Read-outs of the last basic solution (structural and row values). */
 double lp_col_value(const struct lp *lp, int j);

@@ -222,6 +222,74 @@ policy_default(struct policy *p)
 	p->headroom = 1.0;
 	p->matrix = NULL;
 	p->balance_tol = 1e-7;
+	p->formulation = FORM_ARC;
+	p->gap_target = 1e-7;
+	p->keep_paths = false;
+	p->keep_paths_tol = 1e-3;
+}
+
+static const char *const objective_words[] = {
+	[OBJ_COST] = "cost",
+	[OBJ_BALANCE] = "balance",
+	[OBJ_CONGESTION] = "congestion",
+};
+
+static const char *const formulation_words[] = {
+	[FORM_ARC] = "arc",
+	[FORM_PATH] = "path",
+};
+
+/* Index of word in a table of n words, or -1. */
+static int
+word_index(const char *const *words, size_t n, const char *word)
+{
+	size_t i;
+
+	for (i = 0; word != NULL && i < n; i++)
+		if (words[i] != NULL && strcmp(words[i], word) == 0)
+			return (int)i;
+	return -1;
+}
+
+const char *
+objective_word(enum objective o)
+{
+	if ((size_t)o >= sizeof(objective_words) / sizeof(objective_words[0]))
+		return NULL;
+	return objective_words[o];
+}
+
+int
+objective_parse(const char *word, enum objective *op)
+{
+	int i = word_index(objective_words, sizeof(objective_words) /
+	    sizeof(objective_words[0]), word);
+
+	if (i < 0)
+		return ERR_INVALID;
+	*op = (enum objective)i;
+	return 0;
+}
+
+const char *
+formulation_word(enum formulation f)
+{
+	if ((size_t)f >= sizeof(formulation_words) /
+	    sizeof(formulation_words[0]))
+		return NULL;
+	return formulation_words[f];
+}
+
+int
+formulation_parse(const char *word, enum formulation *fp)
+{
+	int i = word_index(formulation_words, sizeof(formulation_words) /
+	    sizeof(formulation_words[0]), word);
+
+	if (i < 0)
+		return ERR_INVALID;
+	*fp = (enum formulation)i;
+	return 0;
 }
 
 void

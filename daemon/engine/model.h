@@ -55,6 +55,12 @@ struct demand {
 enum objective {
 	OBJ_COST = 0,		/* min sum TE metric x flow */
 	OBJ_BALANCE = 1,	/* min max utilisation, then min cost */
+	OBJ_CONGESTION = 2,	/* min sum of the Fortz-Thorup link cost */
+};
+
+enum formulation {
+	FORM_ARC = 0,		/* node-arc, commodities per source: exact */
+	FORM_PATH = 1,		/* paths by column generation */
 };
 
 struct policy {
@@ -63,6 +69,12 @@ struct policy {
 	char *matrix;		/* owned, name of the matrix planned; NULL: none */
 	double balance_tol;	/* relative slack on max utilisation when the
 				   balance objective then minimises cost */
+	enum formulation formulation;
+	double gap_target;	/* column generation stops once the certified
+				   relative gap is at or below it, [0, 0.5] */
+	bool keep_paths;	/* prefer the paths in use when within
+				   keep_paths_tol of optimal */
+	double keep_paths_tol;	/* relative, [0, 0.5] */
 };
 
 struct model {
@@ -107,11 +119,25 @@ void model_free(struct model *m);
 /* Returns a deep copy of m. */
 struct model *model_copy(const struct model *m);
 
-/* Sets p to the default policy: cost, headroom 1, no matrix, tol 1e-7. */
+/*
+ * Sets p to the default policy: cost, headroom 1, no matrix, balance tol
+ * 1e-7, node-arc formulation, gap target 1e-7, keep_paths off (tol 1e-3).
+ */
 void policy_default(struct policy *p);
 
 /* Frees the strings p owns; p itself is not freed. */
 void policy_clear(struct policy *p);
+
+/*
+ * The words for objectives ("cost", "balance", "congestion") and
+ * formulations ("arc", "path"), as the API and the database spell them.
+ * The _word functions return NULL for a value outside the enum; the
+ * _parse functions return 0 or ERR_INVALID.
+ */
+const char *objective_word(enum objective o);
+int objective_parse(const char *word, enum objective *op);
+const char *formulation_word(enum formulation f);
+int formulation_parse(const char *word, enum formulation *fp);
 
 /*
  * Appends a node; id and name are copied.  Returns 0 and its index in

@@ -57,7 +57,8 @@ struct plan_stage {
 	char name[32];		/* "admit-p0", "balance", "cost", ... */
 	double objective;	/* objective value, in the units of the stage:
 				   bit/s for admission, a fraction for
-				   balance, TE metric x bit/s for cost */
+				   balance, bit/s (of Phi) for congestion,
+				   TE metric x bit/s for cost */
 	int iterations;		/* simplex iterations */
 	double ms;		/* wall time of this stage */
 	double lp_objective;	/* the objective exactly as GLPK reported it,
@@ -65,13 +66,16 @@ struct plan_stage {
 				   solved elsewhere can be compared */
 };
 
-#define PLAN_STAGES_MAX	(8 + 3)
+#define PLAN_STAGES_MAX	(8 + 4)
 
 struct plan {
 	enum plan_status status;
 	enum objective objective;	/* the policy objective solved */
 	double max_util;	/* max over up arcs of load / capacity */
 	double total_cost;	/* sum over arcs of TE metric x load, bit/s */
+	double congestion;	/* sum over up arcs of the congestion cost
+				   Phi(load, capacity), bit/s (congestion.h);
+				   filled whatever the objective */
 	double demand_bps;	/* sum of demanded rates */
 	double carried_bps;	/* sum of carried rates */
 	double unserved_bps;	/* demand - carried */
@@ -86,6 +90,24 @@ struct plan {
 	size_t n_saturated;
 	struct plan_stage stages[PLAN_STAGES_MAX];
 	size_t n_stages;
+	enum formulation formulation;	/* the formulation that solved it */
+	double gap;		/* certified relative optimality gap of the
+				   last objective stage: (objective - bound)
+				   / |objective|; 0 for the node-arc one */
+	double bound;		/* lower bound on the last objective stage's
+				   optimum, in that stage's units (TE metric
+				   x bit/s for cost) */
+	int iterations;		/* simplex iterations, all stages */
+	int cg_rounds;		/* column generation rounds, all stages;
+				   0 for the node-arc formulation */
+	size_t columns;		/* LP columns at the end: path columns for
+				   the path formulation */
+	bool warm;		/* solved by re-optimising a kept master
+				   (engine_solve_warm); false: built afresh */
+	double moved_bps;	/* traffic that changed paths relative to
+				   the previous plan of the same state: half
+				   the L1 distance of the per-demand path
+				   flows, bit/s; -1 when there is none */
 	int64_t model_revision;	/* copied from the model */
 	int64_t revision;	/* set by the publisher, 0 until published */
 };

@@ -11,7 +11,8 @@
  * and a token cursor splits a span into words and single-character '(' and
  * ')' tokens.  Nothing is ever read past text + len, and no token is copied
  * without checking its length against a fixed buffer first.  Numbers are
- * checked character by character before strtod() sees them, so "nan",
+ * checked character by character before strtod() sees them (num_parse()),
+ * so "nan",
  * "inf" and hex floats never get in.  The model is built as the file is
  * read: nodes must come before the links and demands that name them, which
  * the section order guarantees.  Demand ids are not kept by the model, so
@@ -29,10 +30,10 @@
 
 #include "sndlib.h"
 #include "model.h"
+#include "num.h"
 #include "../base/err.h"
 #include "../base/xalloc.h"
 
-#define NUM_MAX		63	/* longest number token, bytes */
 #define PATH_DEPTH_MAX	3	/* section ( demand ( path ( links ) ) ) */
 
 enum section {
@@ -280,49 +281,17 @@ id(struct ctx *c, char *buf, const char *what)
 	return 0;
 }
 
-/*
- * Converts a token to a finite number.  Only decimal digits, one point, an
- * exponent and (when signed) a leading minus are accepted.
- */
+/* Converts a token to a finite decimal number (see num_parse()). */
 static int
 tok_num(struct ctx *c, const struct span *t, bool is_signed, double *vp,
     const char *what)
 {
-	char buf[NUM_MAX + 1], *end;
-	size_t i = 0;
-	bool digits = false;
+	struct err le;
 
-	*vp = 0;
-	if (t->n > NUM_MAX)
-		return fail(c, "%s: number too long", what);
-	if (i < t->n && (t->s[i] == '-' || t->s[i] == '+')) {
-		if (t->s[i] == '-' && !is_signed)
-			return fail(c, "%s must not be negative: \"%.*s\"",
-			    what, SHOW(*t));
-		i++;
-	}
-	for (; i < t->n; i++) {
-		char ch = t->s[i];
-
-		if (ch >= '0' && ch <= '9')
-			digits = true;
-		else if (ch == '.')
-			;
-		else if ((ch == 'e' || ch == 'E') && digits &&
-		    i + 1 < t->n) {
-			if (t->s[i + 1] == '-' || t->s[i + 1] == '+')
-				i++;
-		} else
-			break;
-	}
-	if (i != t->n || !digits)
-		return fail(c, "%s: not a number: \"%.*s\"", what, SHOW(*t));
-	memcpy(buf, t->s, t->n);
-	buf[t->n] = '\0';
-	*vp = strtod(buf, &end);
-	if (*end != '\0' || !isfinite(*vp))
-		return fail(c, "%s: not a finite number: \"%.*s\"", what,
-		    SHOW(*t));
+	err_clear(&le);
+	if (num_parse(t->s, t->n, is_signed ? NUM_SIGNED : 0, what, vp,
+	    &le) != 0)
+		return fail(c, "%s", le.msg);
 	return 0;
 }
 

@@ -830,6 +830,178 @@ def test_config_file_and_flags():
         check(out.returncode != 0 and "outside" in out.stderr, "out-of-range value refused: %r" % out.stderr)
 
 
+
+# ---- forwarding tables and plan diffs (docs/api.md) -----------------------
+
+def replay_forwarding(fw, routes, links):
+    """Loads per (link id, direction) from the forwarding tables alone:
+    each route's carried rate is injected at its source and pushed along
+    the next hops by their fractions, per destination in topological order
+    (Kahn's algorithm), the way a router with weighted splitting would
+    forward it.  Written independently of the daemon's code."""
+    ends = {l["id"]: (l["a"], l["b"]) for l in links}
+    tables = {}
+    for t in fw["tables"]:
+        check(abs(sum(h["fraction"] for h in t["next_hops"]) - 1) <= 1e-12,
+              "fractions of %s -> %s sum to 1" % (t["node"], t["dst"]))
+        tables.setdefault(t["dst"], {})[t["node"]] = t["next_hops"]
+    inject = {}
+    for rt in routes:
+        if rt["carried_bps"] > 0:
+            inj = inject.setdefault(rt["dst"], {})
+            inj[rt["src"]] = inj.get(rt["src"], 0.0) + rt["carried_bps"]
+    load = {}
+    for dst, inj in inject.items():
+        tab = tables.get(dst, {})
+        x = dict(inj)
+        indeg = {}
+        for hops in tab.values():
+            for h in hops:
+                indeg[h["next"]] = indeg.get(h["next"], 0) + 1
+        queue = [v for v in tab if indeg.get(v, 0) == 0]
+        done = 0
+        while queue:
+            v = queue.pop()
+            done += 1
+            for h in tab[v]:
+                push = x.get(v, 0.0) * h["fraction"]
+                a, b = ends[h["link"]]
+                side = "a_to_b" if (a, b) == (v, h["next"]) else "b_to_a"
+                check({a, b} == {v, h["next"]}, "hop %r joins %s" % (h, v))
+                load[(h["link"], side)] = load.get((h["link"], side), 0.0) + push
+                x[h["next"]] = x.get(h["next"], 0.0) + push
+                indeg[h["next"]] -= 1
+                if indeg[h["next"]] == 0 and h["next"] in tab:
+                    queue.append(h["next"])
+            x[v] = 0.0
+        check(done == len(tab), "next hops towards %s loop" % dst)
+        stranded = [v for v, r in x.items() if v != dst and r > 0]
+        check(not stranded, "traffic to %s stranded at %r" % (dst, stranded))
+    return load
+
+
+def check_forwarding_reproduces_loads(d, rel=1e-9):
+    fw = ok200(d.get("/v1/plan/forwarding"), "forwarding")
+    rt = ok200(d.get("/v1/plan/routes"), "routes")
+    lj = ok200(d.get("/v1/plan/loads"), "loads")
+    check(fw["revision"] == rt["revision"] == lj["revision"],
+          "one plan revision: %d %d %d" % (fw["revision"], rt["revision"], lj["revision"]))
+    check(fw["loops"] == [], "no loops in a cost-minimal plan: %r" % fw["loops"][:3])
+    got = replay_forwarding(fw, rt["routes"], lj["links"])
+    for l in lj["links"]:
+        for side in ("a_to_b", "b_to_a"):
+            near(got.get((l["id"], side), 0.0), l[side]["load_bps"],
+                 "replayed load of %s %s" % (l["id"], side), rel=rel)
+    return fw
+
+
+def test_forwarding_tiny():
+    # Cost plan on the four-site network (comment at the top): A sends
+    # 10G over L_AB and 5G over L_AC towards D, so A's table for D splits
+    # 2/3 and 1/3; B and C send everything on to D.
+    rev = setup_tiny(D, "cost")
+    D.wait_plan(rev, timeout=60)
+    time.sleep(0.2)
+    fw = check_forwarding_reproduces_loads(D)
+    check(set(fw) == {"revision", "model_revision", "node", "dst", "tables", "loops"},
+          "keys %r" % list(fw))
+    by = {(t["node"], t["dst"]): t for t in fw["tables"]}
+    check(sorted(by) == [("A", "D"), ("B", "D"), ("C", "D")], "entries %r" % sorted(by))
+    a = {h["link"]: h for h in by[("A", "D")]["next_hops"]}
+    check(set(a) == {"L_AB", "L_AC"} and a["L_AB"]["next"] == "B", "A's hops %r" % a)
+    near(a["L_AB"]["fraction"], 2 / 3, "A -> B fraction (10G of 15G)", rel=1e-12)
+    near(a["L_AC"]["fraction"], 1 / 3, "A -> C fraction (5G of 15G)", rel=1e-12)
+    near(by[("A", "D")]["through_bps"], 15e9, "A's traffic to D")
+    check(set(by[("B", "D")]["next_hops"][0]) == {"link", "next", "fraction", "rate_bps"},
+          "hop keys %r" % by[("B", "D")]["next_hops"][0])
+    one = ok200(D.get("/v1/plan/forwarding?node=A&dst=D"), "filtered")
+    check(one["node"] == "A" and one["dst"] == "D" and one["tables"] == [by[("A", "D")]],
+          "filter by node and dst %r" % one)
+    check(ok200(D.get("/v1/plan/forwarding?dst=A"), "dst A")["tables"] == [], "nothing goes to A")
+    check([t["node"] for t in ok200(D.get("/v1/plan/forwarding?node=B"), "node B")["tables"]] == ["B"],
+          "filter by node")
+    expect_error(D.get("/v1/plan/forwarding?node=NOPE"), 404, "not_found", where="node")
+    expect_error(D.get("/v1/plan/forwarding?dst=NOPE"), 404, "not_found", where="dst")
+
+
+def test_forwarding_sndlib_germany50():
+    # 662 demands from 50 sources: aggregation per destination merges
+    # many sources' paths; the replay must still give every planned load.
+    own_daemon_needed()
+    path = os.path.join(ROOT, "tests", "data", "sndlib", "germany50.txt")
+    with Daemon(extra_args=["--max-body", str(MAX_BODY)]) as d, open(path, "rb") as f:
+        ok200(d.request("POST", "/v1/import?format=sndlib&matrix=g", f.read(),
+                        ctype="text/plain"), "import")
+        for obj in ("cost", "balance"):
+            rev = ok200(d.put("/v1/policy", {"objective": obj, "headroom": 1.0, "matrix": "g"}),
+                        "policy")["model_revision"]
+            d.wait_plan(rev, timeout=120)
+            fw = check_forwarding_reproduces_loads(d)
+            check(len(fw["tables"]) > 50, "%s: %d tables" % (obj, len(fw["tables"])))
+
+
+def test_plan_diff_link_down():
+    # Hand derivation on the four-site network (comment at the top).  Cost
+    # plan before: A-B-D 10G, A-C-D 5G.  With L_AB down: A-C-D 10G, 5G
+    # unserved.  The demand A -> D crossed L_AB, so it changed; moved =
+    # half the L1 distance of its per-path rates = (|10 - 0| + |5 - 10|) / 2
+    # = 7.5G; share 7.5G / max(15G, 10G) = 0.5.
+    own_daemon_needed()
+    with Daemon() as d:
+        rev = setup_tiny(d, "cost")
+        p1 = d.wait_plan(rev, timeout=60)
+        j = ok200(d.request("PATCH", "/v1/links/L_AB", {"state": "down"}), "down")
+        p2 = d.wait_plan(j["model_revision"], timeout=60)
+        time.sleep(0.2)
+        p2 = ok200(d.get("/v1/plan"), "plan")
+        check(p2["revision"] > p1["revision"], "a new plan")
+        df = ok200(d.get("/v1/plan/diff?from=%d" % p1["revision"]), "diff")
+        check(set(df) == {"from", "to", "from_model_revision", "to_model_revision",
+                          "demands_compared", "demands_changed", "demands_added",
+                          "demands_removed", "moved_bps", "from_carried_bps",
+                          "to_carried_bps", "moved_share", "changes"}, "keys %r" % list(df))
+        check((df["from"], df["to"]) == (p1["revision"], p2["revision"]), "revisions %r" % df)
+        check(df["demands_compared"] == 1 and df["demands_changed"] == 1, "counts %r" % df)
+        check(df["demands_added"] == 0 and df["demands_removed"] == 0, "no added/removed")
+        near(df["moved_bps"], 7.5e9, "moved (hand-derived)")
+        near(df["moved_share"], 0.5, "moved share (hand-derived)")
+        near(df["from_carried_bps"], 15e9, "carried before")
+        near(df["to_carried_bps"], 10e9, "carried after")
+        c = df["changes"][0]
+        check((c["change"], c["src"], c["dst"], c["priority"], c["occurrence"])
+              == ("changed", "A", "D", 0, 0), "change %r" % c)
+        near(c["moved_bps"], 7.5e9, "demand's moved traffic")
+        # Admission fixes the carried rate within a tiny tolerance, so
+        # rates are compared with near(), not exactly.
+        old = sorted((tuple(x["links"]), x["rate_bps"]) for x in c["from"]["paths"])
+        new = sorted((tuple(x["links"]), x["rate_bps"]) for x in c["to"]["paths"])
+        check([x[0] for x in old] == [("L_AB", "L_BD"), ("L_AC", "L_CD")], "old paths %r" % old)
+        near(old[0][1], 10e9, "old A-B-D rate")
+        near(old[1][1], 5e9, "old A-C-D rate")
+        check([x[0] for x in new] == [("L_AC", "L_CD")], "new paths %r" % new)
+        near(new[0][1], 10e9, "new A-C-D rate")
+        check(any("L_AB" in x["links"] for x in c["from"]["paths"]), "it crossed L_AB")
+        same = ok200(d.get("/v1/plan/diff?from=%d" % p2["revision"]), "diff with itself")
+        check(same["demands_changed"] == 0 and same["changes"] == [] and same["moved_bps"] == 0,
+              "nothing moved %r" % same)
+        expect_error(d.get("/v1/plan/diff"), 400, "invalid", where="from")
+        expect_error(d.get("/v1/plan/diff?from=x1"), 400, "invalid", where="from")
+        e = expect_error(d.get("/v1/plan/diff?from=%d" % (p2["revision"] + 5)), 404, "not_found",
+                         where="from")
+        check("has not been published" in e["message"], "message %r" % e["message"])
+        # 32 plans are kept: after 32 more, the first one is gone.
+        last = p2["revision"]
+        for i in range(32):
+            j = ok200(d.request("PATCH", "/v1/links/L_AC", {"te_metric": 3 + i}), "patch %d" % i)
+            p = d.wait_plan(j["model_revision"], timeout=60, verify=False)
+            check(p["revision"] > last, "patch %d made a plan" % i)
+            last = p["revision"]
+        e = expect_error(d.get("/v1/plan/diff?from=%d" % p1["revision"]), 404, "not_found",
+                         where="from")
+        want = "plan revision %d is no longer kept; the oldest kept is %d" % (p1["revision"], last - 31)
+        check(want in e["message"], "message %r, want %r" % (e["message"], want))
+        ok200(d.get("/v1/plan/diff?from=%d" % (last - 31)), "the oldest kept plan")
+
 # ---------------------------------------------------------------------------
 
 def alarm(signum, frame):

@@ -25,6 +25,8 @@ publishes with references computed here, outside the project:
      (brain.txt), the spread is shown and weft must lie within it.
   5. single demands against networkx (min cost flow, max flow).
   6. every plan fetched passes tests/lib/plancheck.py.
+  7. at the end, tests/reference/congestion.py (its own daemon): the
+     congestion objective against HiGHS on three instances.
 
 The instance files are read again by tests/lib/sndlib.py, not by weft's
 parser.  Relative tolerance 1e-6 throughout unless a check says otherwise.
@@ -530,6 +532,24 @@ def run_instance(d, rep, path):
     print("   %s done in %.1f s" % (c.name, time.time() - t0), flush=True)
 
 
+def run_congestion(rep):
+    """The congestion objective, checked by its own script with its own
+    daemon (tests/reference/congestion.py); one row for its outcome."""
+    import subprocess
+    print("== congestion objective (tests/reference/congestion.py)", flush=True)
+    t0 = time.time()
+    r = subprocess.run([sys.executable, os.path.join(HERE, "congestion.py")],
+                       stdout=subprocess.PIPE, stderr=subprocess.STDOUT, timeout=600)
+    text = r.stdout.decode("utf-8", "replace")
+    print(text, end="", flush=True)
+    notes = {1: "a check failed", 2: "weftd could not run",
+             3: "weftd refused objective \"congestion\""}
+    last = text.strip().splitlines()[-1] if text.strip() else ""
+    rep.add("congestion", "-", "congestion.py exit status", r.returncode, 0, r.returncode == 0,
+            solve_ms=(time.time() - t0) * 1000.0,
+            note=notes.get(r.returncode, last) if r.returncode else last)
+
+
 def main(argv):
     quick = "--quick" in argv
     names = [a for a in argv if not a.startswith("--")]
@@ -560,6 +580,7 @@ def main(argv):
         print(e)
     finally:
         d.stop()
+    run_congestion(rep)
     print()
     print(rep.table())
     bad = rep.failed()

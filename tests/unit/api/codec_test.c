@@ -427,11 +427,62 @@ test_good_inputs(void)
 	ASSERT_DBL_NEAR(p.headroom, 0.8, 0);
 	ASSERT_STR_EQ(p.matrix, "peak");
 	ASSERT_DBL_NEAR(p.balance_tol, 0.001, 0);
+	/* Fields not given keep policy_default()'s values. */
+	ASSERT_INT_EQ(p.formulation, FORM_ARC);
+	ASSERT_DBL_NEAR(p.gap_target, 1e-7, 0);
+	ASSERT_TRUE(!p.keep_paths);
 	s = codec_policy_encode(&p, &len);
 	ASSERT_STR_EQ(s, "{\"objective\":\"balance\",\"headroom\":0.80000000000"
-	    "000004,\"matrix\":\"peak\",\"balance_tolerance\":0.001}");
+	    "000004,\"matrix\":\"peak\",\"balance_tolerance\":0.001,"
+	    "\"formulation\":\"arc\",\"gap_target\":9.9999999999999995e-8,"
+	    "\"keep_paths\":false,\"keep_paths_tolerance\":0.001}");
 	free(s);
 	policy_clear(&p);
+	TEST_DONE();
+
+	TEST_START("decodes the solver fields of a policy");
+	memset(&p, 0, sizeof(p));
+	s = "{\"objective\":\"congestion\",\"headroom\":1,\"matrix\":null,"
+	    "\"formulation\":\"path\",\"gap_target\":0.01,"
+	    "\"keep_paths\":true,\"keep_paths_tolerance\":0.05}";
+	ASSERT_INT_EQ(codec_policy_decode(s, strlen(s), &p, &e), 0);
+	ASSERT_INT_EQ(p.objective, OBJ_CONGESTION);
+	ASSERT_INT_EQ(p.formulation, FORM_PATH);
+	ASSERT_DBL_NEAR(p.gap_target, 0.01, 0);
+	ASSERT_TRUE(p.keep_paths);
+	ASSERT_DBL_NEAR(p.keep_paths_tol, 0.05, 0);
+	policy_clear(&p);
+	TEST_DONE();
+
+	TEST_START("rejects bad solver fields of a policy");
+	{
+		static const struct {
+			const char *text, *where;
+		} bad[] = {
+			{ "{\"objective\":\"fastest\",\"headroom\":1,"
+			    "\"matrix\":null}", "objective" },
+			{ "{\"objective\":\"cost\",\"headroom\":1,"
+			    "\"matrix\":null,\"formulation\":\"tree\"}",
+			    "formulation" },
+			{ "{\"objective\":\"cost\",\"headroom\":1,"
+			    "\"matrix\":null,\"gap_target\":0.9}",
+			    "gap_target" },
+			{ "{\"objective\":\"cost\",\"headroom\":1,"
+			    "\"matrix\":null,\"keep_paths\":1}", "keep_paths" },
+			{ "{\"objective\":\"cost\",\"headroom\":1,"
+			    "\"matrix\":null,\"keep_paths_tolerance\":-1}",
+			    "keep_paths_tolerance" },
+		};
+		size_t i;
+
+		for (i = 0; i < sizeof(bad) / sizeof(bad[0]); i++) {
+			err_clear(&e);
+			memset(&p, 0, sizeof(p));
+			ASSERT_INT_EQ(codec_policy_decode(bad[i].text,
+			    strlen(bad[i].text), &p, &e), ERR_INVALID);
+			ASSERT_STR_EQ(e.where, bad[i].where);
+		}
+	}
 	TEST_DONE();
 
 	TEST_START("decodes a link patch");
@@ -513,6 +564,8 @@ test_plan_render(void)
 	p->stages[0].objective = 0.8;
 	p->stages[0].iterations = 3;
 	p->stages[0].lp_objective = 0.25;
+	p->congestion = 2.5e9;
+	p->moved_bps = -1;	/* no previous plan: rendered as null */
 	r = codec_plan_render(m, p, 12, &s, &slen, &rt, &rlen, &ld, &llen);
 	ASSERT_INT_EQ(r, 0);
 	ASSERT_STR_EQ(s, "{\"revision\":12,\"model_revision\":7,\"status\":"
@@ -524,6 +577,9 @@ test_plan_render(void)
 	    "\"6\":0.0,\"7\":0.0},\"solve_ms\":0.0,\"saturated_links\":[],"
 	    "\"stages\":[{\"name\":\"cost\",\"objective\":0.80000000000000004,"
 	    "\"lp_objective\":0.25,\"iterations\":3,\"ms\":0.0}],"
+	    "\"congestion\":2500000000.0,\"formulation\":\"arc\",\"gap\":0.0,"
+	    "\"bound\":0.0,\"iterations\":3,\"cg_rounds\":0,\"columns\":0,"
+	    "\"warm\":false,\"moved_bps\":null,"
 	    "\"unplaced_demands\":0,\"unplaced_bps\":0.0}");
 	ASSERT_STR_EQ(rt, "{\"revision\":12,\"model_revision\":7,\"routes\":"
 	    "[{\"src\":\"A\",\"dst\":\"C\",\"priority\":0,\"rate_bps\":"

@@ -1,0 +1,206 @@
+/* SPDX-License-Identifier: GPL-3.0-or-later */
+/* Times full and incremental solves of an SNDlib network; JSON lines out. */
+
+/*
+ * DESIGN
+ * usage: engine_bench FILE [--objective cost|balance]
+ *            [--formulation path|arc] [--fail-links N] [--seed S]
+ *            [--scale-demands F] [--keep-paths]
+ *
+ * Solves FILE once from nothing ("full"), then, keeping the engine state,
+ * takes N links down one at a time (chosen by the seed), each followed by
+ * its restore ("link_down", "restore"), then multiplies every demand by F
+ * ("scale_demands").  Every solve prints one JSON object on its own line
+ * with the wall time and the plan's figures, so a driver can compute
+ * ratios, then a line "  stages: [...]" (not JSON: drivers skip lines
+ * that do not start with "{").  --debug sends the engine's debug log to
+ * standard error.  The node-arc formulation keeps no state: its "warm" solves
+ * are full solves, timed the same way for comparison.
+ */
+
+#include <math.h>
+#include <stdio.h>
+#include <stdlib.h>
+#include <string.h>
+#include <time.h>
+
+#include "../../daemon/base/err.h"
+#include "../../daemon/base/log.h"
+#include "../../daemon/base/xalloc.h"
+#include "../../daemon/engine/engine.h"
+#include "../../daemon/engine/sndlib.h"
+
+static double
+now_ms(void)
+{
+	struct timespec ts;
+
+	clock_gettime(CLOCK_MONOTONIC, &ts);
+	return (double)ts.tv_sec * 1e3 + (double)ts.tv_nsec / 1e6;
+}
+
+static char *
+slurp(const char *path, size_t *lenp)
+{
+	FILE *f = fopen(path, "rb");
+	char *buf;
+	long n;
+
+	if (f == NULL)
+		return NULL;
+	fseek(f, 0, SEEK_END);
+	n = ftell(f);
+	fseek(f, 0, SEEK_SET);
+	buf = xmalloc((size_t)n + 1);
+	if (fread(buf, 1, (size_t)n, f) != (size_t)n) {
+		fclose(f);
+		free(buf);
+		return NULL;
+	}
+	fclose(f);
+	*lenp = (size_t)n;
+	return buf;
+}
+
+static unsigned long
+rnd(unsigned long *s)
+{
+	*s = *s * 6364136223846793005UL + 1442695040888963407UL;
+	return *s >> 33;
+}
+
+/* Solves and prints one line; returns 0 or the engine's error. */
+static int
+run(struct engine_state **st, const struct model *m, const char *file,
+    const char *event, const char *link)
+{
+	struct plan *p = NULL;
+	struct err e;
+	double t0, ms;
+	size_t i;
+	int r;
+
+	err_clear(&e);
+	t0 = now_ms();
+	r = engine_solve_warm(st, m, NULL, &p, &e);
+	ms = now_ms() - t0;
+	if (r != 0) {
+		printf("{\"instance\": \"%s\", \"event\": \"%s\", "
+		    "\"error\": \"%s\"}\n", file, event, e.msg);
+		return r;
+	}
+	printf("{\"instance\": \"%s\", \"formulation\": \"%s\", "
+	    "\"objective\": \"%s\", \"event\": \"%s\", \"link\": \"%s\", "
+	    "\"ms\": %.3f, \"status\": \"%s\", \"max_util\": %.12g, "
+	    "\"total_cost\": %.12g, \"carried_bps\": %.12g, "
+	    "\"lp_objective\": %.12g, \"iterations\": %d, "
+	    "\"cg_rounds\": %d, \"columns\": %zu, \"gap\": %.3g, "
+	    "\"warm\": %s, \"moved_bps\": %.12g}\n", file,
+	    m->policy.formulation == FORM_PATH ? "path" : "arc",
+	    m->policy.objective == OBJ_BALANCE ? "balance" : "cost", event,
+	    link, ms, plan_status_str(p->status), p->max_util, p->total_cost,
+	    p->carried_bps, p->n_stages > 0 ?
+	    p->stages[p->n_stages - 1].lp_objective : 0, p->iterations,
+	    p->cg_rounds, p->columns, p->gap, p->warm ? "true" : "false",
+	    p->moved_bps);
+	for (i = 0; i < p->n_stages; i++)
+		printf("%s{\"stage\": \"%s\", \"ms\": %.3f, "
+		    "\"iterations\": %d}%s", i == 0 ? "  stages: [" : ", ",
+		    p->stages[i].name, p->stages[i].ms,
+		    p->stages[i].iterations, i + 1 == p->n_stages ? "]\n" : "");
+	fflush(stdout);
+	plan_free(p);
+	return 0;
+}
+
+int
+main(int argc, char **argv)
+{
+	struct engine_state *st = NULL;
+	struct model *m = NULL;
+	struct err e;
+	const char *file = NULL;
+	char *text;
+	size_t len, i, n_fail = 0, l, *picked;
+	unsigned long seed = 1;
+	double scale = 0;
+	bool balance = false, path = true, keep = false;
+	int a, r = 1;
+
+	for (a = 1; a < argc; a++) {
+		if (strcmp(argv[a], "--objective") == 0 && a + 1 < argc)
+			balance = strcmp(argv[++a], "balance") == 0;
+		else if (strcmp(argv[a], "--formulation") == 0 && a + 1 < argc)
+			path = strcmp(argv[++a], "arc") != 0;
+		else if (strcmp(argv[a], "--fail-links") == 0 && a + 1 < argc)
+			n_fail = strtoul(argv[++a], NULL, 10);
+		else if (strcmp(argv[a], "--seed") == 0 && a + 1 < argc)
+			seed = strtoul(argv[++a], NULL, 10);
+		else if (strcmp(argv[a], "--scale-demands") == 0 &&
+		    a + 1 < argc)
+			scale = strtod(argv[++a], NULL);
+		else if (strcmp(argv[a], "--keep-paths") == 0)
+			keep = true;
+		else if (strcmp(argv[a], "--debug") == 0)
+			log_set_level(LOG_LVL_DEBUG);
+		else if (argv[a][0] != '-' && file == NULL)
+			file = argv[a];
+		else {
+			fprintf(stderr, "usage: engine_bench FILE [--objective "
+			    "cost|balance] [--formulation path|arc] "
+			    "[--fail-links N] [--seed S] [--scale-demands F] "
+			    "[--keep-paths]\n");
+			return 2;
+		}
+	}
+	if (file == NULL || (text = slurp(file, &len)) == NULL) {
+		fprintf(stderr, "engine_bench: cannot read %s\n",
+		    file ? file : "(no file)");
+		return 2;
+	}
+	err_clear(&e);
+	if (sndlib_parse(text, len, &m, &e) != 0) {
+		fprintf(stderr, "engine_bench: %s: %s: %s\n", file, e.where,
+		    e.msg);
+		free(text);
+		return 2;
+	}
+	free(text);
+	m->policy.objective = balance ? OBJ_BALANCE : OBJ_COST;
+	m->policy.formulation = path ? FORM_PATH : FORM_ARC;
+	m->policy.keep_paths = keep;
+	if (run(&st, m, file, "full", "") != 0)
+		goto out;
+	if (n_fail > m->n_links)
+		n_fail = m->n_links;
+	picked = xcalloc(m->n_links + 1, sizeof(*picked));
+	for (i = 0; i < m->n_links; i++)
+		picked[i] = i;
+	for (i = 0; i < n_fail; i++) {
+		/* A partial Fisher-Yates shuffle picks distinct links. */
+		l = i + rnd(&seed) % (m->n_links - i);
+		len = picked[i];
+		picked[i] = picked[l];
+		picked[l] = len;
+		l = picked[i];
+		m->links[l].up = false;
+		if (run(&st, m, file, "link_down", m->links[l].id) != 0)
+			break;
+		m->links[l].up = true;
+		if (run(&st, m, file, "restore", m->links[l].id) != 0)
+			break;
+	}
+	free(picked);
+	if (scale > 0) {
+		for (i = 0; i < m->n_demands; i++)
+			m->demands[i].rate_bps *= scale;
+		if (run(&st, m, file, "scale_demands", "") != 0)
+			goto out;
+	}
+	r = 0;
+out:
+	engine_state_free(st);
+	model_free(m);
+	engine_thread_done();
+	return r;
+}
