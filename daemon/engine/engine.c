@@ -156,10 +156,6 @@ engine_check(const struct model *m, struct err *e)
 	    pol->objective != OBJ_CONGESTION)
 		return err_set(e, ERR_INVALID, "policy.objective",
 		    "unknown objective %d", (int)pol->objective);
-	/* XXX form_path.c has no congestion stage yet. */
-	if (pol->objective == OBJ_CONGESTION && pol->formulation == FORM_PATH)
-		return err_set(e, ERR_INVALID, "policy.objective",
-		    "the congestion objective needs the node-arc formulation");
 	if (!(pol->headroom > 0 && pol->headroom <= 1))
 		return err_set(e, ERR_INVALID, "policy.headroom",
 		    "headroom must be in (0, 1]");
@@ -221,7 +217,13 @@ engine_solve_warm(struct engine_state **stp, const struct model *m,
 	}
 	if ((r = engine_check(m, e)) != 0)
 		return r;
-	if (m->policy.formulation == FORM_PATH && o->export_path == NULL)
+	/*
+	 * XXX The path formulation has no congestion stage yet: that
+	 * objective is solved by the node-arc formulation, and the plan's
+	 * formulation field says so.
+	 */
+	if (m->policy.formulation == FORM_PATH && o->export_path == NULL &&
+	    m->policy.objective != OBJ_CONGESTION)
 		return form_path_solve(stp, m, o, planp, e);
 	/*
 	 * An export writes the node-arc LP whatever the formulation: the

@@ -766,12 +766,14 @@ admit(struct arcform *f, struct err *e)
 		if ((r = stage(f, name, LP_PRIMAL, f->scale, false, &z,
 		    e)) != 0)
 			goto out;
-		if (z <= ZERO_REL * fmax(1, class_lp[prio])) {
-			pin_unserved(f, prio);
-			continue;
-		}
-		take_prices(f);
-		/* Later stages may not serve this class any worse. */
+		if (z > ZERO_REL * fmax(1, class_lp[prio]))
+			take_prices(f);
+		/*
+		 * Later stages may not serve this class any worse.  A class
+		 * served in full gets its row too (not pinned demand by
+		 * demand), so that balance() can probe any U, down to 0,
+		 * and read from v_p how far the class would miss.
+		 */
 		row = lp_add_row(f->lp, n_rc, rc, rv, -INFINITY,
 		    z * (1 + FIX_REL) + DUST);
 		snprintf(name, sizeof(name), "admit_p%d", prio);
@@ -894,6 +896,7 @@ balance(struct arcform *f, struct err *e)
 	struct lp_result res;
 	double U, g, slope, next, gtol, ms = 0;
 	int steps, iters = 0, r, p;
+	bool from_below = false;
 	size_t k;
 
 	if (wants_export(f, false) && (r = export_balance(f, e)) != 0)
@@ -929,13 +932,24 @@ balance(struct arcform *f, struct err *e)
 		log_debug("balance step=%d U=%.12g g=%.6g iterations=%d",
 		    steps, U, g, res.iterations);
 		if (g <= gtol) {
-			/* A lower bound that fits is the optimum. */
-			if (f->all_fit || U < 1e-9 || steps > 0)
+			/*
+			 * Newton's method on the convex, decreasing,
+			 * piecewise-linear g(U) climbs from below and stops
+			 * at the smallest U that fits.  A U that fits is
+			 * therefore the optimum only when it was reached from
+			 * a lower bound (a U under which traffic did not fit):
+			 * after admission limited traffic, the start (just
+			 * under h) need not be one, so restart from U = 0,
+			 * which always is.
+			 */
+			if (f->all_fit || U <= 0 || from_below)
 				break;
-			/* The start fits already: look lower. */
-			U *= 0.5;
+			U = 0;
+			from_below = true;
 			continue;
 		}
+		/* Traffic does not fit under U: U is below the optimum. */
+		from_below = true;
 		slope = lp_col_dual(f->lp, f->ucol_U);
 		if (!(slope < 0))
 			return err_set(e, ERR_SOLVER, NULL,

@@ -118,6 +118,33 @@ record(struct engine_state *st, const char *name, double objective,
 	return 0;
 }
 
+/* What a stage's objective measures. */
+enum unit {
+	UNIT_RATIO = 0,		/* a fraction (U) */
+	UNIT_RATE = 1,		/* bit/s */
+	UNIT_COST = 2,		/* TE metric x bit/s */
+};
+
+/*
+ * The reported units per LP unit of the kept master (fresh false) or of
+ * a master built afresh for the current model (fresh true).
+ */
+static double
+unit_of_stage(const struct engine_state *st, enum unit u, bool fresh)
+{
+	double scale = fresh ? st->scale_fresh : st->scale;
+	double metric = fresh ? st->metric_max_fresh : st->metric_max;
+
+	switch (u) {
+	case UNIT_RATE:
+		return scale;
+	case UNIT_COST:
+		return scale * metric;
+	default:
+		return 1;
+	}
+}
+
 /* Whether the time limit has passed. */
 static bool
 late(const struct engine_state *st)
@@ -135,8 +162,9 @@ late(const struct engine_state *st)
  */
 static int
 cg(struct engine_state *st, enum mode md, int prio, bool exact,
-    const char *name, double unit, double *zp, double *boundp, struct err *e)
+    const char *name, enum unit uk, double *zp, double *boundp, struct err *e)
 {
+	double unit = unit_of_stage(st, uk, false);
 	struct lp_params prm;
 	struct lp_result res;
 	double t0 = now_ms(), z = 0, L = -INFINITY, gap = INFINITY, floor;
@@ -201,7 +229,13 @@ cg(struct engine_state *st, enum mode md, int prio, bool exact,
 	*boundp = fmin(L, z);
 	st->gap = fmax(0, gap);
 	st->bound = *boundp;
-	return record(st, name, z * unit, z, iters, now_ms() - t0, e);
+	/*
+	 * lp_objective is what a master built afresh for this model would
+	 * report (its LP unit and metric scale), so that it compares with
+	 * the exported node-arc LP even when the kept master's units differ.
+	 */
+	return record(st, name, z * unit, z * unit /
+	    unit_of_stage(st, uk, true), iters, now_ms() - t0, e);
 }
 
 /* Pins each u of class prio (all classes: -1) where it is now. */
@@ -328,7 +362,7 @@ admit(struct engine_state *st, struct err *e)
 	char name[32];
 	int prio, r;
 
-	if ((r = cg(st, M_ADMIT, -1, true, "admit", st->scale, &z, &L,
+	if ((r = cg(st, M_ADMIT, -1, true, "admit", UNIT_RATE, &z, &L,
 	    e)) != 0)
 		return r;
 	zu = sum_unserved(st);
@@ -344,7 +378,7 @@ admit(struct engine_state *st, struct err *e)
 		if (st->class_lp[prio] == 0)
 			continue;
 		snprintf(name, sizeof(name), "admit-p%d", prio);
-		if ((r = cg(st, M_CLASS, prio, true, name, st->scale, &z, &L,
+		if ((r = cg(st, M_CLASS, prio, true, name, UNIT_RATE, &z, &L,
 		    e)) != 0)
 			return r;
 		if (z <= ZERO_REL * fmax(1, st->class_lp[prio])) {
@@ -366,7 +400,8 @@ balance(struct engine_state *st, struct err *e)
 	int r;
 
 	set_U(st, 0, st->headroom);
-	if ((r = cg(st, M_BALANCE, -1, false, "balance", 1, &z, &L, e)) != 0)
+	if ((r = cg(st, M_BALANCE, -1, false, "balance", UNIT_RATIO, &z, &L,
+	    e)) != 0)
 		return r;
 	cap = fmin(st->headroom, z * (1 + st->m->policy.balance_tol) + U_ABS);
 	set_U(st, 0, fmax(cap, 0));
@@ -388,7 +423,8 @@ keep(struct engine_state *st, double z, struct err *e)
 	    ZERO_REL * fmax(1, fabs(z));
 	lp_set_row_bounds(st->lp, st->row_cc, -INFINITY, st->cc_hi);
 	st->cc_on = true;
-	r = cg(st, M_KEEP, -1, true, "keep-paths", st->scale, &zk, &L, e);
+	r = cg(st, M_KEEP, -1, true, "keep-paths", UNIT_RATE, &zk, &L,
+	    e);
 	/* The plan's gap and bound stay those of the cost stage. */
 	st->gap = gap;
 	st->bound = bound;
@@ -412,8 +448,8 @@ run_stages(struct engine_state *st, struct err *e)
 	 * stage with the dual simplex (as the node-arc formulation does)
 	 * took twice the iterations here (brain: 6325 against 2860).
 	 */
-	if ((r = cg(st, M_COST, -1, false, "cost",
-	    st->metric_max * st->scale, &z, &L, e)) != 0)
+	if ((r = cg(st, M_COST, -1, false, "cost", UNIT_COST, &z, &L,
+	    e)) != 0)
 		return r;
 	if (st->m->policy.keep_paths && st->has_prev &&
 	    (r = keep(st, z, e)) != 0)
@@ -681,6 +717,14 @@ apply(struct engine_state *st, const struct model *m)
 	}
 	st->headroom = m->policy.headroom;
 	st->balance = m->policy.objective == OBJ_BALANCE;
+	st->scale_fresh = unit_of(m);
+	st->metric_max_fresh = 0;
+	for (i = 0; i < st->n_links; i++)
+		if (m->links[i].up)
+			st->metric_max_fresh = fmax(st->metric_max_fresh,
+			    m->links[i].te_metric);
+	if (st->metric_max_fresh == 0)
+		st->metric_max_fresh = 1;
 	/*
 	 * Carrying one more LP unit raises no arc's utilisation by more than
 	 * 1 / (its capacity), so serving is usually worth more than the rise

@@ -83,6 +83,8 @@ struct engine_state {
 	/* The data now written into the master. */
 	double scale;		/* bit/s per LP unit */
 	double metric_max;
+	double scale_fresh;	/* the LP unit a new master would use now */
+	double metric_max_fresh;	/* and its metric scale */
 	double W;		/* weight of unserved traffic in admit */
 	double W_balance;	/* the same when the objective is balance */
 	double headroom;

@@ -222,7 +222,7 @@ policy_default(struct policy *p)
 	p->headroom = 1.0;
 	p->matrix = NULL;
 	p->balance_tol = 1e-7;
-	p->formulation = FORM_ARC;
+	p->formulation = FORM_PATH;
 	p->gap_target = 1e-7;
 	p->keep_paths = false;
 	p->keep_paths_tol = 1e-3;

@@ -121,7 +121,8 @@ struct model *model_copy(const struct model *m);
 
 /*
  * Sets p to the default policy: cost, headroom 1, no matrix, balance tol
- * 1e-7, node-arc formulation, gap target 1e-7, keep_paths off (tol 1e-3).
+ * 1e-7, path formulation (column generation), gap target 1e-7, keep_paths
+ * off (tol 1e-3).
  */
 void policy_default(struct policy *p);
 

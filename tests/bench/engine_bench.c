@@ -5,12 +5,13 @@
  * DESIGN
  * usage: engine_bench FILE [--objective cost|balance]
  *            [--formulation path|arc] [--fail-links N] [--seed S]
- *            [--scale-demands F] [--keep-paths]
+ *            [--scale-demands F] [--keep-paths] [--prescale F] [--debug]
  *
  * Solves FILE once from nothing ("full"), then, keeping the engine state,
  * takes N links down one at a time (chosen by the seed), each followed by
  * its restore ("link_down", "restore"), then multiplies every demand by F
- * ("scale_demands").  Every solve prints one JSON object on its own line
+ * ("scale_demands").  --prescale multiplies the demands before the
+ * first solve (an over-subscribed instance).  Every solve prints one JSON object on its own line
  * with the wall time and the plan's figures, so a driver can compute
  * ratios, then a line "  stages: [...]" (not JSON: drivers skip lines
  * that do not start with "{").  --debug sends the engine's debug log to
@@ -123,7 +124,7 @@ main(int argc, char **argv)
 	char *text;
 	size_t len, i, n_fail = 0, l, *picked;
 	unsigned long seed = 1;
-	double scale = 0;
+	double scale = 0, prescale = 0;
 	bool balance = false, path = true, keep = false;
 	int a, r = 1;
 
@@ -139,6 +140,8 @@ main(int argc, char **argv)
 		else if (strcmp(argv[a], "--scale-demands") == 0 &&
 		    a + 1 < argc)
 			scale = strtod(argv[++a], NULL);
+		else if (strcmp(argv[a], "--prescale") == 0 && a + 1 < argc)
+			prescale = strtod(argv[++a], NULL);
 		else if (strcmp(argv[a], "--keep-paths") == 0)
 			keep = true;
 		else if (strcmp(argv[a], "--debug") == 0)
@@ -149,7 +152,7 @@ main(int argc, char **argv)
 			fprintf(stderr, "usage: engine_bench FILE [--objective "
 			    "cost|balance] [--formulation path|arc] "
 			    "[--fail-links N] [--seed S] [--scale-demands F] "
-			    "[--keep-paths]\n");
+			    "[--keep-paths] [--prescale F] [--debug]\n");
 			return 2;
 		}
 	}
@@ -169,6 +172,9 @@ main(int argc, char **argv)
 	m->policy.objective = balance ? OBJ_BALANCE : OBJ_COST;
 	m->policy.formulation = path ? FORM_PATH : FORM_ARC;
 	m->policy.keep_paths = keep;
+	if (prescale > 0)
+		for (i = 0; i < m->n_demands; i++)
+			m->demands[i].rate_bps *= prescale;
 	if (run(&st, m, file, "full", "") != 0)
 		goto out;
 	if (n_fail > m->n_links)

@@ -428,13 +428,13 @@ test_good_inputs(void)
 	ASSERT_STR_EQ(p.matrix, "peak");
 	ASSERT_DBL_NEAR(p.balance_tol, 0.001, 0);
 	/* Fields not given keep policy_default()'s values. */
-	ASSERT_INT_EQ(p.formulation, FORM_ARC);
+	ASSERT_INT_EQ(p.formulation, FORM_PATH);
 	ASSERT_DBL_NEAR(p.gap_target, 1e-7, 0);
 	ASSERT_TRUE(!p.keep_paths);
 	s = codec_policy_encode(&p, &len);
 	ASSERT_STR_EQ(s, "{\"objective\":\"balance\",\"headroom\":0.80000000000"
 	    "000004,\"matrix\":\"peak\",\"balance_tolerance\":0.001,"
-	    "\"formulation\":\"arc\",\"gap_target\":9.9999999999999995e-8,"
+	    "\"formulation\":\"path\",\"gap_target\":9.9999999999999995e-8,"
 	    "\"keep_paths\":false,\"keep_paths_tolerance\":0.001}");
 	free(s);
 	policy_clear(&p);
@@ -443,11 +443,11 @@ test_good_inputs(void)
 	TEST_START("decodes the solver fields of a policy");
 	memset(&p, 0, sizeof(p));
 	s = "{\"objective\":\"congestion\",\"headroom\":1,\"matrix\":null,"
-	    "\"formulation\":\"path\",\"gap_target\":0.01,"
+	    "\"formulation\":\"arc\",\"gap_target\":0.01,"
 	    "\"keep_paths\":true,\"keep_paths_tolerance\":0.05}";
 	ASSERT_INT_EQ(codec_policy_decode(s, strlen(s), &p, &e), 0);
 	ASSERT_INT_EQ(p.objective, OBJ_CONGESTION);
-	ASSERT_INT_EQ(p.formulation, FORM_PATH);
+	ASSERT_INT_EQ(p.formulation, FORM_ARC);
 	ASSERT_DBL_NEAR(p.gap_target, 0.01, 0);
 	ASSERT_TRUE(p.keep_paths);
 	ASSERT_DBL_NEAR(p.keep_paths_tol, 0.05, 0);
