@@ -21,7 +21,9 @@
  *      come from these stages;
  *   2. balance only: find the smallest max utilisation U at which the
  *      admitted traffic fits (Newton's method on U over the same LP), then
- *      cap U at U*(1 + policy.balance_tol);
+ *      cap U at U*(1 + policy.balance_tol); congestion only: minimise the
+ *      sum of the Fortz-Thorup link cost (congestion.h), then cap it the
+ *      same way;
  *   3. minimise sum TE metric x flow (cost).
  * The plan's routes come from decomposing each source's arc flows into
  * paths; loads, costs and totals are recomputed from those paths.
@@ -30,7 +32,8 @@
  * (form_path.c) runs the same stages, each as column generation on a
  * master LP over path columns, and can keep that master between solves
  * (struct engine_state): a model with the same structure is then solved
- * by editing bounds and re-optimising from the kept basis.
+ * by editing bounds and re-optimising from the kept basis.  It has no
+ * congestion stage yet: that objective is always solved node-arc.
  */
 
 #include "model.h"
