@@ -66,6 +66,7 @@
 #include "form_arc.h"
 #include "congestion.h"
 #include "decomp.h"
+#include "heap.h"
 #include "lp.h"
 #include "../base/err.h"
 #include "../base/log.h"
@@ -500,56 +501,6 @@ take_prices(struct arcform *f)
 }
 
 /* ---- a starting basis from shortest paths ---- */
-
-/* Binary heap of nodes keyed by dist, for Dijkstra. */
-struct heap {
-	size_t *node;		/* heap order */
-	size_t *at;		/* node -> place in node[], or SIZE_MAX */
-	size_t n;
-	const double *dist;
-};
-
-static void
-heap_swap(struct heap *h, size_t i, size_t j)
-{
-	size_t t = h->node[i];
-
-	h->node[i] = h->node[j];
-	h->node[j] = t;
-	h->at[h->node[i]] = i;
-	h->at[h->node[j]] = j;
-}
-
-static void
-heap_up(struct heap *h, size_t i)
-{
-	while (i > 0 && h->dist[h->node[(i - 1) / 2]] > h->dist[h->node[i]]) {
-		heap_swap(h, i, (i - 1) / 2);
-		i = (i - 1) / 2;
-	}
-}
-
-static size_t
-heap_pop(struct heap *h)
-{
-	size_t top = h->node[0], i = 0, c;
-
-	heap_swap(h, 0, --h->n);
-	h->at[top] = SIZE_MAX;
-	for (;;) {
-		c = 2 * i + 1;
-		if (c >= h->n)
-			break;
-		if (c + 1 < h->n &&
-		    h->dist[h->node[c + 1]] < h->dist[h->node[c]])
-			c++;
-		if (h->dist[h->node[c]] >= h->dist[h->node[i]])
-			break;
-		heap_swap(h, i, c);
-		i = c;
-	}
-	return top;
-}
 
 /*
  * Shortest paths from s by TE metric over up arcs: dist[v] (INFINITY when
@@ -1202,83 +1153,6 @@ routes_from_lp(struct arcform *f)
 	free(flow);
 }
 
-/*
- * Fills loads, utilisation, totals and status from the routes.  price
- * and sat (per arc, may be NULL) come from admission.
- */
-static void
-finish(const struct model *m, struct plan *p, bool empty,
-    const double *price, const bool *sat)
-{
-	const struct link *l;
-	struct plan_route *rt;
-	struct plan_arc *pa;
-	size_t k, i, t, a;
-	double h = m->policy.headroom, d;
-
-	for (k = 0; k < m->n_demands; k++) {
-		rt = &p->routes[k];
-		/*
-		 * A carried rate short of the demand by rounding dust only
-		 * (the LP's tolerances, the decomposition's sums) is the whole
-		 * demand: scale its paths up, so a fully carried demand
-		 * reports exactly zero unserved.
-		 */
-		d = m->demands[k].rate_bps - rt->carried_bps;
-		if (rt->carried_bps > 0 && d > 0 &&
-		    d <= SERVED_REL * m->demands[k].rate_bps) {
-			for (i = 0; i < rt->n_paths; i++)
-				rt->paths[i].rate_bps *=
-				    m->demands[k].rate_bps / rt->carried_bps;
-			rt->carried_bps = m->demands[k].rate_bps;
-		}
-		for (i = 0; i < rt->n_paths; i++)
-			for (t = 0; t < rt->paths[i].n_arcs; t++)
-				p->arcs[rt->paths[i].arcs[t]].load_bps +=
-				    rt->paths[i].rate_bps;
-		rt->unserved_bps = fmax(0,
-		    m->demands[k].rate_bps - rt->carried_bps);
-		p->demand_bps += m->demands[k].rate_bps;
-		p->carried_bps += rt->carried_bps;
-		p->unserved_bps += rt->unserved_bps;
-		p->unserved_by_prio_bps[m->demands[k].priority] +=
-		    rt->unserved_bps;
-	}
-	if (empty)
-		p->status = PLAN_EMPTY;
-	else if (p->unserved_bps <= SERVED_REL * p->demand_bps)
-		p->status = PLAN_OPTIMAL;
-	else
-		p->status = PLAN_PARTIAL;
-	for (a = 0; a < p->n_arcs; a++) {
-		l = &m->links[a / 2];
-		pa = &p->arcs[a];
-		pa->capacity_bps = l->up ? l->capacity_bps : 0;
-		pa->util = l->up ? pa->load_bps / l->capacity_bps : 0;
-		pa->headroom_bps = pa->capacity_bps * h - pa->load_bps;
-		if (l->up) {
-			p->max_util = fmax(p->max_util, pa->util);
-			p->congestion += congestion_phi(pa->load_bps,
-			    l->capacity_bps);
-		}
-		p->total_cost += l->te_metric * pa->load_bps;
-		/* Prices only explain traffic that was left unserved. */
-		if (p->status == PLAN_PARTIAL && price != NULL) {
-			pa->shadow_price = price[a];
-			pa->saturated = sat[a];
-		}
-	}
-	for (i = 0; i < m->n_links; i++)
-		if (p->arcs[2 * i].saturated || p->arcs[2 * i + 1].saturated)
-			p->n_saturated++;
-	p->saturated_links = xcalloc(p->n_saturated,
-	    sizeof(*p->saturated_links));
-	p->n_saturated = 0;
-	for (i = 0; i < m->n_links; i++)
-		if (p->arcs[2 * i].saturated || p->arcs[2 * i + 1].saturated)
-			p->saturated_links[p->n_saturated++] = i;
-}
-
 /* ---- entry points ---- */
 
 int
@@ -1314,7 +1188,7 @@ form_arc_solve(const struct model *m, const struct solve_opts *o,
 			    "no LP to export: no demand has a positive rate");
 			goto out;
 		}
-		finish(m, p, true, NULL, NULL);
+		plan_finish(m, p, true, NULL, NULL);
 	} else {
 		f.lp = lp_new("weft");
 		build(&f);
@@ -1335,7 +1209,7 @@ form_arc_solve(const struct model *m, const struct solve_opts *o,
 			goto out;
 		}
 		routes_from_lp(&f);
-		finish(m, p, false, f.price, f.sat);
+		plan_finish(m, p, false, f.price, f.sat);
 	}
 	p->solve_ms = now_ms() - f.t0;
 	*planp = p;

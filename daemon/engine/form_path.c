@@ -879,76 +879,6 @@ routes_from_lp(struct engine_state *st, double *x)
 	}
 }
 
-/*
- * Fills loads, utilisation, totals and status from the routes, exactly as
- * the node-arc formulation does.  price and sat (per arc, may be NULL)
- * come from admission.
- */
-static void
-finish(const struct model *m, struct plan *p, bool empty,
-    const double *price, const bool *sat)
-{
-	const struct link *l;
-	struct plan_route *rt;
-	struct plan_arc *pa;
-	size_t k, i, t, a;
-	double h = m->policy.headroom, d;
-
-	for (k = 0; k < m->n_demands; k++) {
-		rt = &p->routes[k];
-		/* A carried rate short of the demand by rounding dust only
-		   is the whole demand. */
-		d = m->demands[k].rate_bps - rt->carried_bps;
-		if (rt->carried_bps > 0 && d > 0 &&
-		    d <= SERVED_REL * m->demands[k].rate_bps) {
-			for (i = 0; i < rt->n_paths; i++)
-				rt->paths[i].rate_bps *=
-				    m->demands[k].rate_bps / rt->carried_bps;
-			rt->carried_bps = m->demands[k].rate_bps;
-		}
-		for (i = 0; i < rt->n_paths; i++)
-			for (t = 0; t < rt->paths[i].n_arcs; t++)
-				p->arcs[rt->paths[i].arcs[t]].load_bps +=
-				    rt->paths[i].rate_bps;
-		rt->unserved_bps = fmax(0,
-		    m->demands[k].rate_bps - rt->carried_bps);
-		p->demand_bps += m->demands[k].rate_bps;
-		p->carried_bps += rt->carried_bps;
-		p->unserved_bps += rt->unserved_bps;
-		p->unserved_by_prio_bps[m->demands[k].priority] +=
-		    rt->unserved_bps;
-	}
-	if (empty)
-		p->status = PLAN_EMPTY;
-	else if (p->unserved_bps <= SERVED_REL * p->demand_bps)
-		p->status = PLAN_OPTIMAL;
-	else
-		p->status = PLAN_PARTIAL;
-	for (a = 0; a < p->n_arcs; a++) {
-		l = &m->links[a / 2];
-		pa = &p->arcs[a];
-		pa->capacity_bps = l->up ? l->capacity_bps : 0;
-		pa->util = l->up ? pa->load_bps / l->capacity_bps : 0;
-		pa->headroom_bps = pa->capacity_bps * h - pa->load_bps;
-		if (l->up)
-			p->max_util = fmax(p->max_util, pa->util);
-		p->total_cost += l->te_metric * pa->load_bps;
-		if (p->status == PLAN_PARTIAL && price != NULL) {
-			pa->shadow_price = price[a];
-			pa->saturated = sat[a];
-		}
-	}
-	for (i = 0; i < m->n_links; i++)
-		if (p->arcs[2 * i].saturated || p->arcs[2 * i + 1].saturated)
-			p->n_saturated++;
-	p->saturated_links = xcalloc(p->n_saturated + 1,
-	    sizeof(*p->saturated_links));
-	p->n_saturated = 0;
-	for (i = 0; i < m->n_links; i++)
-		if (p->arcs[2 * i].saturated || p->arcs[2 * i + 1].saturated)
-			p->saturated_links[p->n_saturated++] = i;
-}
-
 /* Traffic moved since the previous plan, and this plan's flows kept. */
 static void
 remember(struct engine_state *st, double *x)
@@ -1019,7 +949,7 @@ form_path_solve(struct engine_state **stp, const struct model *m,
 	p->scale_bps = st->scale;
 	if (!any) {
 		/* Nothing to route; a kept master stays for later. */
-		finish(m, p, true, NULL, NULL);
+		plan_finish(m, p, true, NULL, NULL);
 		goto done;
 	}
 	st->price = xcalloc(st->n_arcs + 1, sizeof(*st->price));
@@ -1037,7 +967,7 @@ form_path_solve(struct engine_state **stp, const struct model *m,
 		goto out;
 	x = xcalloc(st->n_cols + 1, sizeof(*x));
 	routes_from_lp(st, x);
-	finish(m, p, false, st->price, st->sat);
+	plan_finish(m, p, false, st->price, st->sat);
 	remember(st, x);
 	x = NULL;
 	p->warm = warm;

@@ -13,6 +13,7 @@
 #include <stddef.h>
 
 #include "engine.h"
+#include "heap.h"
 
 struct lp;
 
@@ -53,13 +54,6 @@ enum mode {
 	M_BALANCE = 2,		/* U */
 	M_COST = 3,		/* cost */
 	M_KEEP = 4,		/* flow on paths unused by the previous plan */
-};
-
-struct heap {
-	size_t *node;		/* heap order */
-	size_t *at;		/* node -> place in node[], or SIZE_MAX */
-	size_t n;
-	const double *dist;
 };
 
 struct engine_state {

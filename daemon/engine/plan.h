@@ -112,6 +112,21 @@ struct plan {
 	int64_t revision;	/* set by the publisher, 0 until published */
 };
 
+/* Unserved traffic at or below this share of a demand counts as none. */
+#define PLAN_SERVED_REL	1e-9
+
+/*
+ * Completes a plan whose routes (paths and carried rates) a formulation
+ * has filled: folds rounding dust into fully carried demands, then sets
+ * loads, utilisation, headroom, congestion, totals, status and the
+ * saturated links, all computed from the routes, so routes and loads
+ * always agree.  empty: there was nothing to route.  price and sat (per
+ * arc, may be NULL) come from the admission stages and are kept only when
+ * traffic was left unserved.
+ */
+void plan_finish(const struct model *m, struct plan *p, bool empty,
+    const double *price, const bool *sat);
+
 /* Frees p and everything it owns; p may be NULL. */
 void plan_free(struct plan *p);
 
