@@ -34,6 +34,25 @@ REL_CAP = 1e-7       # capacity x headroom may be exceeded by this, relative
 REL_SUM = 1e-9       # recomputed totals
 
 
+# The link cost of Fortz & Thorup (2000), "Internet traffic engineering by
+# optimizing OSPF weights": slope 1, 3, 10, 70, 500, 5000 between
+# utilisation breakpoints 1/3, 2/3, 9/10, 1, 11/10 (recalled from memory of
+# the paper, as in daemon/engine/congestion.c; written here independently
+# as an integral of the slopes).
+_PHI_BREAKS = (1.0 / 3, 2.0 / 3, 9.0 / 10, 1.0, 11.0 / 10)
+_PHI_SLOPES = (1, 3, 10, 70, 500, 5000)
+
+
+def _phi(load, cap):
+    u, lo, total = load / cap, 0.0, 0.0
+    for i, slope in enumerate(_PHI_SLOPES):
+        hi = _PHI_BREAKS[i] if i < len(_PHI_BREAKS) else float("inf")
+        if u > lo:
+            total += slope * (min(u, hi) - lo)
+        lo = hi
+    return total * cap
+
+
 def _close(a, b, rel, abs_=ABS_BPS):
     return abs(a - b) <= max(rel * max(abs(a), abs(b)), abs_)
 
@@ -134,6 +153,7 @@ def check(topology, demands, policy, plan, routes, loads, max_msgs=20):
     seen = set()
     max_util = 0.0
     cost = 0.0
+    congestion = 0.0
     sat_arcs = set()
     for e in loads["links"]:
         lid = e["id"]
@@ -168,6 +188,8 @@ def check(topology, demands, policy, plan, routes, loads, max_msgs=20):
             if not _close(float(x["headroom_bps"]), hb, 1e-9, max(ABS_BPS, 1e-9 * cap)):
                 fail("loads: %s %s headroom_bps %.17g, capacity x headroom - load %.17g" % (lid, d, x["headroom_bps"], hb))
             cost += metric * load
+            if cap > 0:
+                congestion += _phi(load, cap)
             if x.get("saturated"):
                 sat_arcs.add(lid)
                 if load < cap * headroom * (1 - 1e-6) - ABS_BPS:
@@ -187,6 +209,8 @@ def check(topology, demands, policy, plan, routes, loads, max_msgs=20):
 
     cmp("max_utilization", max_util, 1e-9, 1e-12)
     cmp("total_cost", cost, REL_SUM, 1e-6)
+    if "congestion" in plan:
+        cmp("congestion", congestion, 1e-9, 1e-6)
     # Carried and unserved are differences of nearly equal sums when almost
     # everything (or nothing) is carried: compare relative to the demand.
     floor = max(ABS_BPS, REL_SUM * tot_rate)
