@@ -18,23 +18,11 @@
 #include <jansson.h>
 
 #include "codec_diff.h"
+#include "codec_json.h"
 #include "../daemon/base/err.h"
 #include "../daemon/engine/model.h"
 #include "../daemon/engine/plan.h"
 #include "../daemon/engine/plandiff.h"
-
-static json_t *
-num(double x)
-{
-	return isfinite(x) ? json_real(x) : json_null();
-}
-
-static void
-add(json_t *arr, json_t *v, bool *okp)
-{
-	if (v == NULL || json_array_append_new(arr, v) != 0)
-		*okp = false;
-}
 
 /* One side of a demand: carried rate and paths, or null when k < 0. */
 static json_t *
@@ -53,14 +41,15 @@ side(const struct model *m, const struct plan *p, long k, bool *okp)
 		pp = &rt->paths[i];
 		links = json_array();
 		for (a = 0; a < pp->n_arcs; a++)
-			add(links, json_string(m->links[pp->arcs[a] / 2].id),
+			codec_append(links,
+			    json_string(m->links[pp->arcs[a] / 2].id),
 			    okp);
-		add(paths, json_pack("{s:o, s:o}", "rate_bps",
-		    num(pp->rate_bps), "links", links), okp);
+		codec_append(paths, json_pack("{s:o, s:o}", "rate_bps",
+		    codec_num(pp->rate_bps), "links", links), okp);
 	}
 	return json_pack("{s:o, s:o, s:o}", "rate_bps",
-	    num(m->demands[k].rate_bps), "carried_bps", num(rt->carried_bps),
-	    "paths", paths);
+	    codec_num(m->demands[k].rate_bps), "carried_bps",
+	    codec_num(rt->carried_bps), "paths", paths);
 }
 
 static const char *
@@ -119,12 +108,13 @@ codec_diff_render(const struct model *old_m, const struct plan *old_p,
 		}
 		m = pd->new_k >= 0 ? new_m : old_m;
 		dm = &m->demands[pd->new_k >= 0 ? pd->new_k : pd->old_k];
-		add(changes, json_pack("{s:s, s:s, s:s, s:i, s:I, s:o, s:o, "
+		codec_append(changes,
+		    json_pack("{s:s, s:s, s:s, s:i, s:I, s:o, s:o, "
 		    "s:o}", "change", kind_str(pd->kind),
 		    "src", m->nodes[dm->src].id, "dst", m->nodes[dm->dst].id,
 		    "priority", dm->priority,
 		    "occurrence", (json_int_t)pd->occurrence,
-		    "moved_bps", num(pd->moved_bps),
+		    "moved_bps", codec_num(pd->moved_bps),
 		    "from", side(old_m, old_p, pd->old_k, &ok),
 		    "to", side(new_m, new_p, pd->new_k, &ok)), &ok);
 	}
@@ -137,19 +127,18 @@ codec_diff_render(const struct model *old_m, const struct plan *old_p,
 	    "demands_changed", (json_int_t)d->n_changed,
 	    "demands_added", (json_int_t)d->n_added,
 	    "demands_removed", (json_int_t)d->n_removed,
-	    "moved_bps", num(d->moved_bps),
-	    "from_carried_bps", num(d->old_carried_bps),
-	    "to_carried_bps", num(d->new_carried_bps),
-	    "moved_share", num(d->moved_share),
+	    "moved_bps", codec_num(d->moved_bps),
+	    "from_carried_bps", codec_num(d->old_carried_bps),
+	    "to_carried_bps", codec_num(d->new_carried_bps),
+	    "moved_share", codec_num(d->moved_share),
 	    "changes", changes);
-	if (j == NULL || !ok)
+	if (j == NULL || !ok) {
+		json_decref(j);
 		goto out;
-	if ((*textp = json_dumps(j, JSON_COMPACT |
-	    JSON_REAL_PRECISION(17))) == NULL)
+	}
+	if ((*textp = codec_dump(j, lenp)) == NULL)
 		goto out;
-	*lenp = strlen(*textp);
 	r = 0;
 out:
-	json_decref(j);
 	return r;
 }

@@ -19,22 +19,10 @@
 #include <jansson.h>
 
 #include "codec_fwd.h"
+#include "codec_json.h"
 #include "../daemon/base/err.h"
 #include "../daemon/engine/fwd.h"
 #include "../daemon/engine/model.h"
-
-static json_t *
-num(double x)
-{
-	return isfinite(x) ? json_real(x) : json_null();
-}
-
-static void
-add(json_t *arr, json_t *v, bool *okp)
-{
-	if (v == NULL || json_array_append_new(arr, v) != 0)
-		*okp = false;
-}
 
 static json_t *
 table(const struct model *m, const struct fwd *f, const struct fwd_entry *en,
@@ -50,15 +38,15 @@ table(const struct model *m, const struct fwd *f, const struct fwd_entry *en,
 			*okp = false;
 			break;
 		}
-		add(hops, json_pack("{s:s, s:s, s:o, s:o}",
+		codec_append(hops, json_pack("{s:s, s:s, s:o, s:o}",
 		    "link", m->links[h[j].arc / 2].id,
 		    "next", m->nodes[h[j].next].id,
-		    "fraction", num(h[j].frac),
-		    "rate_bps", num(h[j].rate_bps)), okp);
+		    "fraction", codec_num(h[j].frac),
+		    "rate_bps", codec_num(h[j].rate_bps)), okp);
 	}
 	return json_pack("{s:s, s:s, s:o, s:o}", "node", m->nodes[en->node].id,
-	    "dst", m->nodes[en->dst].id, "through_bps", num(en->through_bps),
-	    "next_hops", hops);
+	    "dst", m->nodes[en->dst].id, "through_bps",
+	    codec_num(en->through_bps), "next_hops", hops);
 }
 
 int
@@ -93,7 +81,7 @@ codec_fwd_render(const struct model *m, const struct fwd *f,
 		}
 		if (dst >= 0 && en->dst != (size_t)dst)
 			continue;
-		add(tables, table(m, f, en, &ok), &ok);
+		codec_append(tables, table(m, f, en, &ok), &ok);
 	}
 	loops = json_array();
 	for (i = 0; i < fwd_n_loops(f); i++) {
@@ -110,9 +98,10 @@ codec_fwd_render(const struct model *m, const struct fwd *f,
 				ok = false;
 				break;
 			}
-			add(nodes, json_string(m->nodes[lp->nodes[k]].id), &ok);
+			codec_append(nodes,
+			    json_string(m->nodes[lp->nodes[k]].id), &ok);
 		}
-		add(loops, json_pack("{s:s, s:o}", "dst",
+		codec_append(loops, json_pack("{s:s, s:o}", "dst",
 		    m->nodes[lp->dst].id, "nodes", nodes), &ok);
 	}
 	j = json_pack("{s:I, s:I, s:s?, s:s?, s:o, s:o}",
@@ -121,14 +110,13 @@ codec_fwd_render(const struct model *m, const struct fwd *f,
 	    "node", node >= 0 ? m->nodes[node].id : NULL,
 	    "dst", dst >= 0 ? m->nodes[dst].id : NULL,
 	    "tables", tables, "loops", loops);
-	if (j == NULL || !ok)
+	if (j == NULL || !ok) {
+		json_decref(j);
 		goto out;
-	if ((*textp = json_dumps(j, JSON_COMPACT |
-	    JSON_REAL_PRECISION(17))) == NULL)
+	}
+	if ((*textp = codec_dump(j, lenp)) == NULL)
 		goto out;
-	*lenp = strlen(*textp);
 	r = 0;
 out:
-	json_decref(j);
 	return r;
 }

@@ -27,3 +27,10 @@ codec_dump(json_t *j, size_t *lenp)
 		*lenp = strlen(s);
 	return s;
 }
+
+void
+codec_append(json_t *arr, json_t *v, bool *okp)
+{
+	if (v == NULL || json_array_append_new(arr, v) != 0)
+		*okp = false;
+}

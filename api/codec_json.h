@@ -9,9 +9,17 @@
  * thread may call these functions.
  */
 
+#include <stdbool.h>
 #include <stddef.h>
 
 struct json_t;
+
+/*
+ * Appends v to the array arr, stealing the reference to v; sets *okp to
+ * false when v is NULL (a failed constructor) or the append fails, so a
+ * whole document can be built first and checked once.
+ */
+void codec_append(struct json_t *arr, struct json_t *v, bool *okp);
 
 /*
  * A new JSON real holding x, or JSON null when x is not finite (JSON has

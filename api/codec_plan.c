@@ -30,13 +30,6 @@
  * Appends v to arr; clears *okp when v is NULL (a string that is not
  * UTF-8, or no memory), so nothing is dropped silently.
  */
-static void
-add(json_t *arr, json_t *v, bool *okp)
-{
-	if (v == NULL || json_array_append_new(arr, v) != 0)
-		*okp = false;
-}
-
 /* Checks that p's arrays fit m, so indexing below is safe. */
 static bool
 fits(const struct model *m, const struct plan *p)
@@ -98,7 +91,7 @@ unplaced(json_t *j, const struct model *m, bool *okp)
 		    m->n_unplaced, m->policy.matrix != NULL ?
 		    m->policy.matrix : "");
 	warn = json_array();
-	add(warn, json_string(text), okp);
+	codec_append(warn, json_string(text), okp);
 	if (json_object_set_new(j, "warnings", warn) != 0)
 		*okp = false;
 }
@@ -159,10 +152,12 @@ summary(const struct model *m, const struct plan *p, int64_t revision,
 	}
 	sat = json_array();
 	for (i = 0; i < p->n_saturated; i++)
-		add(sat, json_string(m->links[p->saturated_links[i]].id), okp);
+		codec_append(sat,
+		    json_string(m->links[p->saturated_links[i]].id), okp);
 	stages = json_array();
 	for (i = 0; i < p->n_stages; i++)
-		add(stages, json_pack("{s:s, s:o, s:o, s:i, s:o}", "name",
+		codec_append(stages,
+		    json_pack("{s:s, s:o, s:o, s:i, s:o}", "name",
 		    p->stages[i].name, "objective",
 		    codec_num(p->stages[i].objective), "lp_objective",
 		    codec_num(p->stages[i].lp_objective), "iterations",
@@ -200,12 +195,12 @@ path_json(const struct model *m, const struct demand *d,
 
 	nodes = json_array();
 	links = json_array();
-	add(nodes, json_string(m->nodes[at].id), okp);
+	codec_append(nodes, json_string(m->nodes[at].id), okp);
 	for (i = 0; i < pp->n_arcs; i++) {
 		l = &m->links[pp->arcs[i] / 2];
 		at = pp->arcs[i] % 2 == 0 ? l->b : l->a;
-		add(nodes, json_string(m->nodes[at].id), okp);
-		add(links, json_string(l->id), okp);
+		codec_append(nodes, json_string(m->nodes[at].id), okp);
+		codec_append(links, json_string(l->id), okp);
 	}
 	return json_pack("{s:o, s:o, s:o}", "rate_bps", codec_num(pp->rate_bps),
 	    "nodes", nodes, "links", links);
@@ -226,8 +221,9 @@ routes(const struct model *m, const struct plan *p, int64_t revision,
 		pr = &p->routes[k];
 		paths = json_array();
 		for (i = 0; i < pr->n_paths; i++)
-			add(paths, path_json(m, d, &pr->paths[i], okp), okp);
-		add(arr, json_pack(
+			codec_append(paths,
+			    path_json(m, d, &pr->paths[i], okp), okp);
+		codec_append(arr, json_pack(
 		    "{s:s, s:s, s:i, s:o, s:o, s:o, s:o}",
 		    "src", m->nodes[d->src].id, "dst", m->nodes[d->dst].id,
 		    "priority", d->priority, "rate_bps", codec_num(d->rate_bps),
@@ -259,7 +255,8 @@ loads(const struct model *m, const struct plan *p, int64_t revision,
 	arr = json_array();
 	for (i = 0; p != NULL && i < m->n_links; i++) {
 		l = &m->links[i];
-		add(arr, json_pack("{s:s, s:s, s:s, s:s, s:o, s:o, s:o, s:o}",
+		codec_append(arr,
+		    json_pack("{s:s, s:s, s:s, s:s, s:o, s:o, s:o, s:o}",
 		    "id", l->id, "a", m->nodes[l->a].id, "b", m->nodes[l->b].id,
 		    "state", l->up ? "up" : "down",
 		    "capacity_bps", codec_num(l->capacity_bps),
