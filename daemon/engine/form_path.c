@@ -43,7 +43,9 @@
  * The state survives between calls (engine_solve_warm()): when the next
  * model has the same nodes, links, TE metrics and demand list shape, link
  * state, capacities and rates are written into bounds and coefficients and
- * the stages run again from the kept basis.  The first LP of a solve runs
+ * the stages run again from the kept basis (shortcut() first, when the
+ * change only takes away after a balance plan that fit).  The first LP of
+ * a solve runs
  * the dual simplex (a crash basis of shortest paths when new; the
  * previous optimum, still dual feasible for cost-like objectives, when
  * warm; a kept balance basis is repaired by the primal simplex), later
@@ -405,6 +407,7 @@ balance(struct engine_state *st, struct err *e)
 		return r;
 	cap = fmin(st->headroom, z * (1 + st->m->policy.balance_tol) + U_ABS);
 	set_U(st, 0, fmax(cap, 0));
+	st->kept_U = z;
 	return 0;
 }
 
@@ -431,14 +434,75 @@ keep(struct engine_state *st, double z, struct err *e)
 	return r;
 }
 
+/*
+ * The warm shortcut for a change that only takes away (links down,
+ * capacities lowered, rates raised) after a balance solve that fit: the
+ * least U cannot have fallen, so when everything still fits with U at
+ * most the kept cap, the balance optimum is within balance_tol of the
+ * kept one and the cap stands.  One column generation on W x sum u +
+ * cost with U capped there decides it; the kept basis (an optimum of the
+ * same LP with the old data) is dual feasible for it, or nearly.  Sets
+ * *donep when the stages are done; else the master is left for the full
+ * stages, which reset it.
+ */
+static int
+shortcut(struct engine_state *st, bool *donep, struct err *e)
+{
+	double z, L, t0 = now_ms();
+	size_t k;
+	int p, r, n0 = st->p->n_stages;
+
+	*donep = false;
+	for (k = 0; k < st->n_dem; k++) {
+		lp_set_row_bounds(st->lp, (int)k, st->d_lp[k], st->d_lp[k]);
+		lp_set_col_bounds(st->lp, (int)k, 0, st->d_lp[k]);
+		st->u_hi[k] = st->d_lp[k];
+	}
+	for (p = 0; p < NPRIO; p++)
+		if (st->class_row[p] >= 0 && st->class_on[p]) {
+			lp_set_row_bounds(st->lp, st->class_row[p], -INFINITY,
+			    INFINITY);
+			st->class_on[p] = false;
+		}
+	lp_set_row_bounds(st->lp, st->row_cc, -INFINITY, INFINITY);
+	st->cc_on = false;
+	set_U(st, 0, st->kept_cap);
+	st->admit_U = false;
+	st->next_dual = true;
+	if (record(st, "admit", 0, 0, 0, 0, e) != 0 ||
+	    record(st, "balance", st->kept_U, st->kept_U, 0, 0, e) != 0)
+		return ERR_INTERNAL;
+	if ((r = cg(st, M_ADMIT, -1, false, "cost", UNIT_COST, &z, &L,
+	    e)) != 0)
+		return r;
+	if (sum_unserved(st) > ZERO_REL * fmax(1, st->demand_lp)) {
+		/* It no longer fits under the cap: the full stages decide. */
+		log_debug("warm shortcut failed after %.1f ms", now_ms() - t0);
+		st->p->n_stages = n0;
+		st->admit_U = true;
+		return 0;
+	}
+	pin_unserved(st, -1);
+	st->all_fit = true;
+	st->p->stages[n0 + 2].ms = now_ms() - t0;
+	*donep = true;
+	return 0;
+}
+
 static int
 run_stages(struct engine_state *st, struct err *e)
 {
 	double z, L;
+	bool done = false;
 	int r;
 
-	reset(st);
 	st->all_fit = false;
+	if (st->tighter && (r = shortcut(st, &done, e)) != 0)
+		return r;
+	st->kept_fit = false;
+	if (done)
+		goto kept;
+	reset(st);
 	if ((r = admit(st, e)) != 0)
 		return r;
 	if (st->balance && (r = balance(st, e)) != 0)
@@ -451,6 +515,12 @@ run_stages(struct engine_state *st, struct err *e)
 	if ((r = cg(st, M_COST, -1, false, "cost", UNIT_COST, &z, &L,
 	    e)) != 0)
 		return r;
+kept:
+	if (st->balance && st->all_fit) {
+		st->kept_fit = true;
+		st->kept_cap = st->U_hi;
+		st->kept_tol = st->m->policy.balance_tol;
+	}
 	if (st->m->policy.keep_paths && st->has_prev &&
 	    (r = keep(st, z, e)) != 0)
 		return r;
@@ -696,21 +766,32 @@ apply(struct engine_state *st, const struct model *m)
 	double cap;
 	bool cap_changed = false, up_changed = false, dead;
 
+	/* Whether every change since the last solve only takes away. */
+	st->tighter = st->lp != NULL && st->kept_fit &&
+	    m->policy.objective == OBJ_BALANCE &&
+	    m->policy.headroom == st->headroom &&
+	    m->policy.balance_tol == st->kept_tol;
 	for (i = 0; i < st->n_links; i++) {
 		l = &m->links[i];
 		if (l->up != st->up[i])
 			up_changed = true;
+		if (l->up && !st->up[i])
+			st->tighter = false;
 		st->up[i] = l->up;
 		cap = l->up ? l->capacity_bps / st->scale : 0;
 		for (a = 2 * i; a <= 2 * i + 1; a++) {
 			if (cap != st->cap_lp[a])
 				cap_changed = true;
+			if (cap > st->cap_lp[a])
+				st->tighter = false;
 			st->cap_lp[a] = cap;
 		}
 	}
 	st->demand_lp = 0;
 	memset(st->class_lp, 0, sizeof(st->class_lp));
 	for (k = 0; k < st->n_dem; k++) {
+		if (m->demands[k].rate_bps / st->scale < st->d_lp[k])
+			st->tighter = false;
 		st->d_lp[k] = m->demands[k].rate_bps / st->scale;
 		st->demand_lp += st->d_lp[k];
 		st->class_lp[st->dprio[k]] += st->d_lp[k];
@@ -949,6 +1030,7 @@ form_path_solve(struct engine_state **stp, const struct model *m,
 	p->scale_bps = st->scale;
 	if (!any) {
 		/* Nothing to route; a kept master stays for later. */
+		st->kept_fit = false;
 		plan_finish(m, p, true, NULL, NULL);
 		goto done;
 	}

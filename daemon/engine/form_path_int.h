@@ -130,6 +130,11 @@ struct engine_state {
 	bool all_fit;
 	bool next_dual;		/* the next LP runs the dual simplex */
 	bool admit_U;		/* admit minimises W_balance x sum u + U */
+	bool tighter;		/* this model only takes away from the last */
+	bool kept_fit;		/* the last solve: balance, everything fit */
+	double kept_U;		/* its balance optimum, LP units */
+	double kept_cap;	/* and the cap on U it left in the master */
+	double kept_tol;	/* with this balance_tol */
 	int iters, rounds;
 	double gap, bound;	/* of the last objective stage, LP units */
 };

@@ -426,6 +426,13 @@ simplex(struct lp *lp, int meth, const struct lp_params *p, double t0)
 	 * keeps them; measured on brain-sized LPs, it costs no iterations.
 	 */
 	parm.tol_bnd = 1e-10;
+	/*
+	 * The dual simplex takes long steps (the bound-flipping ratio test):
+	 * u and U are boxed, and on brain, janos-us-ca and ta2 it cut the
+	 * iterations of a full solve by 14-19 % (tests/bench/engine_bench).
+	 */
+	if (meth != GLP_PRIMAL)
+		parm.r_test = GLP_RT_FLIP;
 	if (p->time_limit_s > 0) {
 		left = p->time_limit_s * 1e3 - (now_ms() - t0);
 		if (left < 1)

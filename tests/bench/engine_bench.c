@@ -5,11 +5,13 @@
  * DESIGN
  * usage: engine_bench FILE [--objective cost|balance]
  *            [--formulation path|arc] [--fail-links N] [--seed S]
+ *            [--links ID,ID...]
  *            [--scale-demands F] [--keep-paths] [--prescale F] [--debug]
  *
  * Solves FILE once from nothing ("full"), then, keeping the engine state,
  * takes N links down one at a time (chosen by the seed), each followed by
- * its restore ("link_down", "restore"), then multiplies every demand by F
+ * its restore ("link_down", "restore"), then the links --links names (in
+ * the file's order), the same way, then multiplies every demand by F
  * ("scale_demands").  --prescale multiplies the demands before the
  * first solve (an over-subscribed instance).  Every solve prints one JSON object on its own line
  * with the wall time and the plan's figures, so a driver can compute
@@ -120,7 +122,7 @@ main(int argc, char **argv)
 	struct engine_state *st = NULL;
 	struct model *m = NULL;
 	struct err e;
-	const char *file = NULL;
+	const char *file = NULL, *names = NULL;
 	char *text;
 	size_t len, i, n_fail = 0, l, *picked;
 	unsigned long seed = 1;
@@ -135,6 +137,8 @@ main(int argc, char **argv)
 			path = strcmp(argv[++a], "arc") != 0;
 		else if (strcmp(argv[a], "--fail-links") == 0 && a + 1 < argc)
 			n_fail = strtoul(argv[++a], NULL, 10);
+		else if (strcmp(argv[a], "--links") == 0 && a + 1 < argc)
+			names = argv[++a];
 		else if (strcmp(argv[a], "--seed") == 0 && a + 1 < argc)
 			seed = strtoul(argv[++a], NULL, 10);
 		else if (strcmp(argv[a], "--scale-demands") == 0 &&
@@ -151,7 +155,8 @@ main(int argc, char **argv)
 		else {
 			fprintf(stderr, "usage: engine_bench FILE [--objective "
 			    "cost|balance] [--formulation path|arc] "
-			    "[--fail-links N] [--seed S] [--scale-demands F] "
+			    "[--fail-links N] [--links ID,ID..] [--seed S] "
+			    "[--scale-demands F] "
 			    "[--keep-paths] [--prescale F] [--debug]\n");
 			return 2;
 		}
@@ -197,6 +202,24 @@ main(int argc, char **argv)
 			break;
 	}
 	free(picked);
+	/* Named links, one at a time, each restored after. */
+	for (l = 0; names != NULL && l < m->n_links; l++) {
+		const char *q = names;
+		size_t n = strlen(m->links[l].id);
+
+		while ((q = strstr(q, m->links[l].id)) != NULL &&
+		    !((q == names || q[-1] == ',') &&
+		    (q[n] == ',' || q[n] == '\0')))
+			q++;
+		if (q == NULL)
+			continue;
+		m->links[l].up = false;
+		if (run(&st, m, file, "link_down", m->links[l].id) != 0)
+			break;
+		m->links[l].up = true;
+		if (run(&st, m, file, "restore", m->links[l].id) != 0)
+			break;
+	}
 	if (scale > 0) {
 		for (i = 0; i < m->n_demands; i++)
 			m->demands[i].rate_bps *= scale;

@@ -396,7 +396,8 @@ test_random(void)
 
 /*
  * One kept state through a sequence of changes on nobel-eu (link down,
- * restore, demands +10 %, objective switch, headroom): every warm plan
+ * restore, demands +10 %, objective switch, headroom, then changes that
+ * only take away, for the warm shortcut): every warm plan
  * equals a node-arc solve of the same model from nothing.  A changed TE
  * metric changes the structure: that solve is a full build.
  */
@@ -407,7 +408,7 @@ test_warm(void)
 	struct model *m;
 	struct plan *p, *q;
 	size_t k, i;
-	int bad = 0, warm = 0, step;
+	int bad = 0, warm = 0, step, shortcuts = 0;
 
 	TEST_START("warm re-solves agree with solves from nothing");
 	m = load_sndlib("nobel-eu.txt");
@@ -416,7 +417,7 @@ test_warm(void)
 		TEST_DONE();
 		return;
 	}
-	for (step = 0; step < 8; step++) {
+	for (step = 0; step < 11; step++) {
 		switch (step) {
 		case 1:
 			m->links[3].up = false;
@@ -445,6 +446,26 @@ test_warm(void)
 			for (i = 0; i < m->n_links; i++)
 				m->links[i].capacity_bps *= 2;
 			break;
+		case 7:
+			/* Small enough to fit: a full balance solve. */
+			for (k = 0; k < m->n_demands; k++)
+				m->demands[k].rate_bps *= 0.02;
+			m->links[2].up = true;
+			break;
+		case 8:
+			/* Only taking away after a balance plan that fit:
+			   the warm shortcut (form_path.c) may decide it. */
+			m->links[9].up = false;
+			break;
+		case 9:
+			/* Nothing changed: the shortcut again. */
+			break;
+		case 10:
+			/* Some rates up: U may rise past the kept cap, then
+			   the full stages run. */
+			for (k = 0; k < m->n_demands; k += 5)
+				m->demands[k].rate_bps *= 1.05;
+			break;
 		}
 		q = solve_warm(&st, m);
 		p = solve_with(m, FORM_ARC);
@@ -462,6 +483,10 @@ test_warm(void)
 				bad++;
 			}
 			warm += q->warm;
+			/* The shortcut's admit and balance run no LP. */
+			if (q->n_stages == 3 && q->stages[0].iterations == 0 &&
+			    q->stages[1].iterations == 0 && q->warm)
+				shortcuts++;
 			if (step > 0 && !q->warm)
 				printf("# step %d was not warm\n", step);
 			if (step > 0 && !(q->moved_bps >= 0))
@@ -471,7 +496,11 @@ test_warm(void)
 		plan_free(q);
 	}
 	ASSERT_INT_EQ(bad, 0);
-	ASSERT_INT_EQ(warm, 7);
+	ASSERT_INT_EQ(warm, 10);
+	/* Steps 8 and 9 take the shortcut. */
+	if (shortcuts < 2)
+		printf("# %d warm solves took the shortcut\n", shortcuts);
+	ASSERT_TRUE(shortcuts >= 2);
 	/* A TE metric change rebuilds. */
 	for (i = 0; i < m->n_links; i++)
 		m->links[i].te_metric += 1;
