@@ -116,6 +116,18 @@ run(struct engine_state **st, const struct model *m, const char *file,
 	return 0;
 }
 
+/* Link l down, solve, back up, solve. */
+static int
+fail_restore(struct engine_state **st, struct model *m, const char *file,
+    size_t l)
+{
+	m->links[l].up = false;
+	if (run(st, m, file, "link_down", m->links[l].id) != 0)
+		return 1;
+	m->links[l].up = true;
+	return run(st, m, file, "restore", m->links[l].id);
+}
+
 int
 main(int argc, char **argv)
 {
@@ -193,12 +205,7 @@ main(int argc, char **argv)
 		len = picked[i];
 		picked[i] = picked[l];
 		picked[l] = len;
-		l = picked[i];
-		m->links[l].up = false;
-		if (run(&st, m, file, "link_down", m->links[l].id) != 0)
-			break;
-		m->links[l].up = true;
-		if (run(&st, m, file, "restore", m->links[l].id) != 0)
+		if (fail_restore(&st, m, file, picked[i]) != 0)
 			break;
 	}
 	free(picked);
@@ -211,13 +218,7 @@ main(int argc, char **argv)
 		    !((q == names || q[-1] == ',') &&
 		    (q[n] == ',' || q[n] == '\0')))
 			q++;
-		if (q == NULL)
-			continue;
-		m->links[l].up = false;
-		if (run(&st, m, file, "link_down", m->links[l].id) != 0)
-			break;
-		m->links[l].up = true;
-		if (run(&st, m, file, "restore", m->links[l].id) != 0)
+		if (q != NULL && fail_restore(&st, m, file, l) != 0)
 			break;
 	}
 	if (scale > 0) {
