@@ -322,8 +322,10 @@ model_free(struct model *m)
 		free(m->nodes[i].name);
 	}
 	free(m->nodes);
-	for (i = 0; i < m->n_links; i++)
+	for (i = 0; i < m->n_links; i++) {
 		free(m->links[i].id);
+		free(m->links[i].srlgs);
+	}
 	free(m->links);
 	free(m->demands);
 	policy_clear(&m->policy);
@@ -351,6 +353,13 @@ model_copy(const struct model *m)
 	for (i = 0; i < m->n_links; i++) {
 		c->links[i] = m->links[i];
 		c->links[i].id = xstrdup(m->links[i].id);
+		c->links[i].srlgs = NULL;
+		if (m->links[i].n_srlgs > 0) {
+			c->links[i].srlgs = xcalloc(m->links[i].n_srlgs,
+			    sizeof(*c->links[i].srlgs));
+			memcpy(c->links[i].srlgs, m->links[i].srlgs,
+			    m->links[i].n_srlgs * sizeof(*c->links[i].srlgs));
+		}
 	}
 	c->demands = xcalloc(m->n_demands, sizeof(*c->demands));
 	c->n_demands = c->cap_demands = m->n_demands;
@@ -438,6 +447,7 @@ model_add_link(struct model *m, const char *id, const char *a,
 		    sizeof(*m->links));
 	}
 	l = &m->links[m->n_links];
+	memset(l, 0, sizeof(*l));
 	l->id = xstrdup(id);
 	l->a = ia;
 	l->b = ib;
@@ -448,6 +458,46 @@ model_add_link(struct model *m, const char *id, const char *a,
 	ix->links.slots[s] = ++m->n_links;
 	ix->links.n++;
 	return 0;
+}
+
+static int
+cmp_u32(const void *x, const void *y)
+{
+	uint32_t a = *(const uint32_t *)x, b = *(const uint32_t *)y;
+
+	return a < b ? -1 : a > b;
+}
+
+int
+model_set_link_srlgs(struct model *m, size_t i, const uint32_t *s,
+    size_t n, const char *where, struct err *e)
+{
+	struct link *l = &m->links[i];
+	size_t j, k;
+
+	if (n > MODEL_SRLG_MAX)
+		return bad(e, where, "srlgs", "a link is in at most %d SRLGs, "
+		    "not %zu", MODEL_SRLG_MAX, n);
+	free(l->srlgs);
+	l->srlgs = NULL;
+	l->n_srlgs = 0;
+	if (n == 0)
+		return 0;
+	l->srlgs = xcalloc(n, sizeof(*l->srlgs));
+	memcpy(l->srlgs, s, n * sizeof(*s));
+	qsort(l->srlgs, n, sizeof(*l->srlgs), cmp_u32);
+	for (j = k = 0; j < n; j++)
+		if (k == 0 || l->srlgs[k - 1] != l->srlgs[j])
+			l->srlgs[k++] = l->srlgs[j];
+	l->n_srlgs = k;
+	return 0;
+}
+
+bool
+link_in_srlg(const struct link *l, uint32_t g)
+{
+	return l->n_srlgs > 0 && bsearch(&g, l->srlgs, l->n_srlgs,
+	    sizeof(*l->srlgs), cmp_u32) != NULL;
 }
 
 /* Appends a demand between node indices; the caller has checked it. */

@@ -30,6 +30,7 @@ struct err;
 #define MODEL_PRIO_MAX		7	/* priorities run 0..7 */
 #define MODEL_RATE_MAX		1e15	/* largest accepted rate, bit/s (1 Pbit/s) */
 #define MODEL_METRIC_MAX	1e9	/* largest accepted TE metric */
+#define MODEL_SRLG_MAX		64	/* SRLGs per link */
 
 struct node {
 	char *id;		/* owned, unique, 1..MODEL_ID_MAX bytes */
@@ -44,6 +45,9 @@ struct link {
 	double capacity_bps;	/* per direction, > 0 */
 	double te_metric;	/* > 0 */
 	bool up;		/* false: administratively or failed down */
+	uint32_t *srlgs;	/* owned: shared-risk link groups, ascending,
+				   distinct; NULL when none */
+	size_t n_srlgs;		/* at most MODEL_SRLG_MAX */
 };
 
 struct demand {
@@ -166,6 +170,17 @@ int model_add_link(struct model *m, const char *id, const char *a,
  */
 int model_add_demand(struct model *m, const char *src, const char *dst,
     double rate_bps, int priority, const char *where, struct err *e);
+
+/*
+ * Sets link i's SRLGs to a sorted, de-duplicated copy of the n numbers in
+ * s.  Returns 0 or ERR_INVALID (more than MODEL_SRLG_MAX) with detail
+ * under "<where>.srlgs".
+ */
+int model_set_link_srlgs(struct model *m, size_t i, const uint32_t *s,
+    size_t n, const char *where, struct err *e);
+
+/* Whether link l is in SRLG g. */
+bool link_in_srlg(const struct link *l, uint32_t g);
 
 /* Looks up a node or link id: returns its index or -1. */
 long model_find_node(const struct model *m, const char *id);
