@@ -100,6 +100,21 @@ int engine_solve_warm(struct engine_state **stp, const struct model *m,
 /* Frees st (NULL ok), on the thread that used it. */
 void engine_state_free(struct engine_state *st);
 
+/*
+ * A seed: a copy of a kept state in plain memory (no solver object), so
+ * that other threads can start from it (form_path_seed.c).
+ * engine_seed_take() returns NULL when st holds no master (NULL, or the
+ * last solve was node-arc).  A seed is immutable: any thread may read it
+ * or free it.  engine_state_from_seed() makes a new state on the calling
+ * thread (NULL for a NULL seed); engine_solve_warm() then solves a model
+ * from it as it would have from the original state, and reports
+ * moved_bps against the seed's plan.
+ */
+struct engine_seed;
+struct engine_seed *engine_seed_take(const struct engine_state *st);
+void engine_seed_free(struct engine_seed *sd);
+struct engine_state *engine_state_from_seed(const struct engine_seed *sd);
+
 /* Checks a model without solving it: 0 or ERR_INVALID with detail. */
 int engine_check(const struct model *m, struct err *e);
 

@@ -373,6 +373,152 @@ lp_basis_free(struct lp_basis *b)
 	free(b);
 }
 
+/* One row or column of a snapshot. */
+struct snap_var {
+	int type;		/* GLP_FR, GLP_LO, ... */
+	double lo, hi;
+	unsigned char stat;	/* GLP_BS, GLP_NL, ... */
+	char *name;		/* owned, NULL when none */
+};
+
+struct lp_snap {
+	char *name;
+	int m, n;
+	struct snap_var *row, *col;	/* 1-based, as GLPK */
+	double *obj;		/* 0..n, [0] the constant */
+	size_t *beg;		/* column j's entries: beg[j]..beg[j+1]-1 */
+	int *ind;
+	double *val;
+};
+
+static void
+snap_var_take(struct snap_var *v, int type, double lo, double hi, int stat,
+    const char *name)
+{
+	v->type = type;
+	v->lo = lo;
+	v->hi = hi;
+	v->stat = (unsigned char)stat;
+	v->name = name != NULL ? xstrdup(name) : NULL;
+}
+
+struct lp_snap *
+lp_snap_take(const struct lp *lp)
+{
+	struct lp_snap *s = xcalloc(1, sizeof(*s));
+	glp_prob *P = lp->P;
+	const char *nm;
+	size_t nz = 0, cap;
+	int i, j, k, len, *ind;
+	double *val;
+
+	nm = glp_get_prob_name(P);
+	s->name = xstrdup(nm != NULL ? nm : "");
+	s->m = glp_get_num_rows(P);
+	s->n = glp_get_num_cols(P);
+	s->row = xcalloc((size_t)s->m + 1, sizeof(*s->row));
+	s->col = xcalloc((size_t)s->n + 1, sizeof(*s->col));
+	s->obj = xcalloc((size_t)s->n + 1, sizeof(*s->obj));
+	s->beg = xcalloc((size_t)s->n + 2, sizeof(*s->beg));
+	for (i = 1; i <= s->m; i++)
+		snap_var_take(&s->row[i], glp_get_row_type(P, i),
+		    glp_get_row_lb(P, i), glp_get_row_ub(P, i),
+		    glp_get_row_stat(P, i), glp_get_row_name(P, i));
+	ind = xcalloc((size_t)s->m + 1, sizeof(*ind));
+	val = xcalloc((size_t)s->m + 1, sizeof(*val));
+	cap = (size_t)s->n + 16;
+	s->ind = xcalloc(cap, sizeof(*s->ind));
+	s->val = xcalloc(cap, sizeof(*s->val));
+	s->obj[0] = glp_get_obj_coef(P, 0);
+	for (j = 1; j <= s->n; j++) {
+		snap_var_take(&s->col[j], glp_get_col_type(P, j),
+		    glp_get_col_lb(P, j), glp_get_col_ub(P, j),
+		    glp_get_col_stat(P, j), glp_get_col_name(P, j));
+		s->obj[j] = glp_get_obj_coef(P, j);
+		len = glp_get_mat_col(P, j, ind, val);
+		if (nz + (size_t)len > cap) {
+			while (nz + (size_t)len > cap)
+				cap *= 2;
+			s->ind = xreallocarray(s->ind, cap, sizeof(*s->ind));
+			s->val = xreallocarray(s->val, cap, sizeof(*s->val));
+		}
+		s->beg[j] = nz;
+		for (k = 1; k <= len; k++) {
+			s->ind[nz] = ind[k];
+			s->val[nz++] = val[k];
+		}
+	}
+	s->beg[s->n + 1] = nz;
+	free(ind);
+	free(val);
+	return s;
+}
+
+struct lp *
+lp_snap_build(const struct lp_snap *s)
+{
+	struct lp *lp = lp_new(s->name);
+	glp_prob *P = lp->P;
+	const struct snap_var *v;
+	int i, j, k, len, *ind;
+	double *val;
+
+	if (s->m > 0)
+		glp_add_rows(P, s->m);
+	if (s->n > 0)
+		glp_add_cols(P, s->n);
+	ind = xcalloc((size_t)s->m + 1, sizeof(*ind));
+	val = xcalloc((size_t)s->m + 1, sizeof(*val));
+	for (i = 1; i <= s->m; i++) {
+		v = &s->row[i];
+		glp_set_row_bnds(P, i, v->type, v->lo, v->hi);
+		if (v->name != NULL)
+			glp_set_row_name(P, i, v->name);
+		glp_set_row_stat(P, i, v->stat);
+	}
+	glp_set_obj_coef(P, 0, s->obj[0]);
+	for (j = 1; j <= s->n; j++) {
+		v = &s->col[j];
+		glp_set_col_bnds(P, j, v->type, v->lo, v->hi);
+		if (v->name != NULL)
+			glp_set_col_name(P, j, v->name);
+		glp_set_obj_coef(P, j, s->obj[j]);
+		len = (int)(s->beg[j + 1] - s->beg[j]);
+		/* GLPK reads ind[1..len] and val[1..len]. */
+		for (k = 0; k < len; k++) {
+			ind[k + 1] = s->ind[s->beg[j] + (size_t)k];
+			val[k + 1] = s->val[s->beg[j] + (size_t)k];
+		}
+		if (len > 0)
+			glp_set_mat_col(P, j, len, ind, val);
+		glp_set_col_stat(P, j, v->stat);
+	}
+	free(ind);
+	free(val);
+	return lp;
+}
+
+void
+lp_snap_free(struct lp_snap *s)
+{
+	int i;
+
+	if (s == NULL)
+		return;
+	for (i = 1; i <= s->m; i++)
+		free(s->row[i].name);
+	for (i = 1; i <= s->n; i++)
+		free(s->col[i].name);
+	free(s->row);
+	free(s->col);
+	free(s->obj);
+	free(s->beg);
+	free(s->ind);
+	free(s->val);
+	free(s->name);
+	free(s);
+}
+
 void
 lp_scale(struct lp *lp)
 {

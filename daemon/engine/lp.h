@@ -133,6 +133,19 @@ void lp_basis_load(struct lp *lp, const struct lp_basis *b);
 void lp_basis_free(struct lp_basis *b);
 
 /* Applies GLPK's automatic scaling; call once, after the matrix is loaded. */
+/*
+ * A snapshot of a whole problem in plain memory: rows and columns with
+ * their bounds, names, objective and matrix, and the basis.  It holds no
+ * GLPK object, so it may be made on one thread and built on another
+ * (lp_snap_build() makes a new problem on the calling thread, with the
+ * snapshot's basis, ready for a warm simplex).  lp_snap_free(NULL) is a
+ * no-op.
+ */
+struct lp_snap;
+struct lp_snap *lp_snap_take(const struct lp *lp);
+struct lp *lp_snap_build(const struct lp_snap *s);
+void lp_snap_free(struct lp_snap *s);
+
 void lp_scale(struct lp *lp);
 
 /*

@@ -2,6 +2,7 @@
 /* Unit tests of the path formulation: hand-derived optima, the node-arc
    reference on SNDlib instances, warm re-solves and keep-paths. */
 #include <math.h>
+#include <pthread.h>
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
@@ -677,6 +678,104 @@ test_check_policy(void)
 	model_free(m);
 }
 
+/* ---- seeds: the live master lent to another thread ---- */
+
+struct seed_job {
+	const struct engine_seed *sd;
+	struct model *m;	/* the scenario */
+	struct plan *q;		/* out */
+	bool warm_ok;
+};
+
+static void *
+seed_thread(void *arg)
+{
+	struct seed_job *j = arg;
+	struct engine_state *st = engine_state_from_seed(j->sd);
+
+	j->warm_ok = st != NULL;
+	j->q = solve_warm(&st, j->m);
+	engine_state_free(st);
+	engine_thread_done();
+	return NULL;
+}
+
+/*
+ * A seed taken after a balance solve on nobel-eu (scaled to fit) is
+ * rebuilt on two other threads at once, each solving another link
+ * failure from it: both plans are warm, equal node-arc solves of their
+ * scenario from nothing, and report traffic moved away from the seed's
+ * plan; the original state keeps working after the seed is taken.
+ */
+static void
+test_seed(void)
+{
+	struct engine_state *st = NULL;
+	struct engine_seed *sd;
+	struct seed_job job[2];
+	pthread_t th[2];
+	struct model *m;
+	struct plan *p, *q;
+	size_t k;
+	int i, bad = 0;
+
+	TEST_START("a seed starts warm solves on other threads");
+	m = load_sndlib("nobel-eu.txt");
+	ASSERT_TRUE(m != NULL);
+	if (m == NULL) {
+		TEST_DONE();
+		return;
+	}
+	for (k = 0; k < m->n_demands; k++)
+		m->demands[k].rate_bps *= 0.02;
+	m->policy.objective = OBJ_BALANCE;
+	q = solve_warm(&st, m);
+	ASSERT_TRUE(q != NULL && q->status == PLAN_OPTIMAL);
+	plan_free(q);
+	sd = engine_seed_take(st);
+	ASSERT_TRUE(sd != NULL);
+	for (i = 0; i < 2; i++) {
+		job[i].sd = sd;
+		job[i].m = model_copy(m);
+		job[i].m->links[4 + 7 * i].up = false;
+		job[i].q = NULL;
+		ASSERT_INT_EQ(pthread_create(&th[i], NULL, seed_thread,
+		    &job[i]), 0);
+	}
+	for (i = 0; i < 2; i++) {
+		pthread_join(th[i], NULL);
+		p = solve_with(job[i].m, FORM_ARC);
+		q = job[i].q;
+		ASSERT_TRUE(job[i].warm_ok && p != NULL && q != NULL);
+		if (p != NULL && q != NULL) {
+			bad += same_optimum(p, q);
+			bad += check_plan(job[i].m, q) != 0;
+			ASSERT_TRUE(q->warm);
+			ASSERT_TRUE(q->moved_bps >= 0);
+		}
+		plan_free(p);
+		plan_free(q);
+		model_free(job[i].m);
+	}
+	ASSERT_INT_EQ(bad, 0);
+	engine_seed_free(sd);
+	/* The original state is untouched by its seed's use. */
+	m->links[2].up = false;
+	q = solve_warm(&st, m);
+	p = solve_with(m, FORM_ARC);
+	ASSERT_TRUE(p != NULL && q != NULL && q->warm);
+	if (p != NULL && q != NULL)
+		ASSERT_INT_EQ(same_optimum(p, q), 0);
+	plan_free(p);
+	plan_free(q);
+	/* Nothing to seed from. */
+	ASSERT_TRUE(engine_seed_take(NULL) == NULL);
+	ASSERT_TRUE(engine_state_from_seed(NULL) == NULL);
+	engine_state_free(st);
+	model_free(m);
+	TEST_DONE();
+}
+
 int
 main(void)
 {
@@ -689,6 +788,7 @@ main(void)
 	test_warm();
 	test_warm_edges();
 	test_keep_paths();
+	test_seed();
 	engine_thread_done();
 	return tap_finish();
 }
