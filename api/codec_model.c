@@ -15,6 +15,7 @@
  */
 
 #include <math.h>
+#include <stdint.h>
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
@@ -288,7 +289,7 @@ codec_matrix_name_ok(const char *name)
 static const char *const topo_keys[] = { "nodes", "links", NULL };
 static const char *const node_keys[] = { "id", "name", "lat", "lon", NULL };
 static const char *const link_keys[] = { "id", "a", "b", "capacity_bps",
-    "te_metric", "state", NULL };
+    "te_metric", "state", "srlgs", NULL };
 static const char *const matrix_keys[] = { "name", "demands", NULL };
 static const char *const demand_keys[] = { "src", "dst", "rate_bps",
     "priority", NULL };
@@ -296,7 +297,7 @@ static const char *const policy_keys[] = { "objective", "headroom",
     "matrix", "balance_tolerance", "formulation", "gap_target",
     "keep_paths", "keep_paths_tolerance", NULL };
 static const char *const patch_keys[] = { "state", "capacity_bps",
-    "te_metric", NULL };
+    "te_metric", "srlgs", NULL };
 
 /* Reads a "state" member: "up" or "down"; absent leaves *upp alone. */
 static int
@@ -316,6 +317,51 @@ get_state(json_t *obj, const char *base, bool *upp, bool *hasp,
 		return err_set(e, ERR_INVALID, path(w, sizeof(w), base,
 		    "state"), "must be \"up\" or \"down\"");
 	*upp = strcmp(s, "up") == 0;
+	*hasp = true;
+	return 0;
+}
+
+/*
+ * Reads an "srlgs" member: an array of at most MODEL_SRLG_MAX distinct
+ * integers 0..UINT32_MAX, into s (room for MODEL_SRLG_MAX) in the given
+ * order.  Absent: *np 0, *hasp false.  A repeat is refused rather than
+ * merged (nothing is repaired); over the limit is ERR_INVALID, not
+ * ERR_TOOBIG, since the limit belongs to the model, not to the request.
+ */
+static int
+get_srlgs(json_t *obj, const char *base, uint32_t *s, size_t *np,
+    bool *hasp, struct err *e)
+{
+	json_t *v = json_object_get(obj, "srlgs"), *x;
+	char w[ERR_WHERE_MAX], wi[ERR_WHERE_MAX];
+	json_int_t g;
+	size_t i, j;
+
+	*np = 0;
+	*hasp = false;
+	if (v == NULL)
+		return 0;
+	path(w, sizeof(w), base, "srlgs");
+	if (!json_is_array(v))
+		return err_set(e, ERR_INVALID, w, "must be an array of SRLG "
+		    "numbers");
+	if (json_array_size(v) > MODEL_SRLG_MAX)
+		return err_set(e, ERR_INVALID, w, "%zu SRLGs; a link is in at "
+		    "most %d", json_array_size(v), MODEL_SRLG_MAX);
+	json_array_foreach(v, i, x) {
+		snprintf(wi, sizeof(wi), "%.*s[%zu]", ERR_WHERE_MAX - 24, w,
+		    i);
+		if (!json_is_integer(x) || (g = json_integer_value(x)) < 0 ||
+		    g > UINT32_MAX)
+			return err_set(e, ERR_INVALID, wi, "must be an integer "
+			    "from 0 to %lu", (unsigned long)UINT32_MAX);
+		for (j = 0; j < i; j++)
+			if (s[j] == (uint32_t)g)
+				return err_set(e, ERR_INVALID, wi, "SRLG %lld "
+				    "is listed twice", (long long)g);
+		s[i] = (uint32_t)g;
+	}
+	*np = json_array_size(v);
 	*hasp = true;
 	return 0;
 }
@@ -360,8 +406,10 @@ decode_link(struct model *m, json_t *v, const char *base, struct err *e)
 {
 	const char *id, *a, *b;
 	char w[ERR_WHERE_MAX];
+	uint32_t srlgs[MODEL_SRLG_MAX];
 	double cap = 0, metric = 0;
-	bool up = true, has_state;
+	bool up = true, has_state, has_srlgs;
+	size_t n_srlgs;
 	int r;
 
 	if ((r = check_keys(v, link_keys, base, e)) != 0 ||
@@ -372,7 +420,8 @@ decode_link(struct model *m, json_t *v, const char *base, struct err *e)
 	    MODEL_RATE_MAX, &cap, NULL, e)) != 0 ||
 	    (r = get_num(v, "te_metric", base, true, 0, true,
 	    MODEL_METRIC_MAX, &metric, NULL, e)) != 0 ||
-	    (r = get_state(v, base, &up, &has_state, e)) != 0)
+	    (r = get_state(v, base, &up, &has_state, e)) != 0 ||
+	    (r = get_srlgs(v, base, srlgs, &n_srlgs, &has_srlgs, e)) != 0)
 		return r;
 	if (model_find_link(m, id) >= 0)
 		return err_set(e, ERR_INVALID, path(w, sizeof(w), base, "id"),
@@ -386,7 +435,10 @@ decode_link(struct model *m, json_t *v, const char *base, struct err *e)
 	if (strcmp(a, b) == 0)
 		return err_set(e, ERR_INVALID, path(w, sizeof(w), base, "b"),
 		    "a link cannot join node \"%s\" to itself", a);
-	return model_add_link(m, id, a, b, cap, metric, up, base, e);
+	if ((r = model_add_link(m, id, a, b, cap, metric, up, base, e)) != 0)
+		return r;
+	return model_set_link_srlgs(m, m->n_links - 1, srlgs, n_srlgs, base,
+	    e);
 }
 
 int
@@ -571,11 +623,14 @@ codec_link_patch_decode(const char *text, size_t len, struct link_patch *lp,
 	    (r = get_num(j, "capacity_bps", "", false, 0, true,
 	    MODEL_RATE_MAX, &np.capacity_bps, &np.has_capacity, e)) != 0 ||
 	    (r = get_num(j, "te_metric", "", false, 0, true,
-	    MODEL_METRIC_MAX, &np.te_metric, &np.has_metric, e)) != 0)
+	    MODEL_METRIC_MAX, &np.te_metric, &np.has_metric, e)) != 0 ||
+	    (r = get_srlgs(j, "", np.srlgs, &np.n_srlgs, &np.has_srlgs,
+	    e)) != 0)
 		goto out;
-	if (!np.has_up && !np.has_capacity && !np.has_metric) {
+	if (!np.has_up && !np.has_capacity && !np.has_metric &&
+	    !np.has_srlgs) {
 		r = err_set(e, ERR_INVALID, "", "a patch sets at least one of "
-		    "state, capacity_bps, te_metric");
+		    "state, capacity_bps, te_metric, srlgs");
 		goto out;
 	}
 	*lp = np;
@@ -587,15 +642,29 @@ out:
 
 /* ---- encoders ---------------------------------------------------- */
 
+/* One link, its SRLGs always (ascending, as the model keeps them). */
 static json_t *
 link_json(const struct model *m, size_t i)
 {
 	const struct link *l = &m->links[i];
+	json_t *j, *srlgs;
+	bool ok = true;
+	size_t k;
 
-	return json_pack("{s:s, s:s, s:s, s:o, s:o, s:s}", "id", l->id,
+	srlgs = json_array();
+	for (k = 0; srlgs != NULL && k < l->n_srlgs; k++)
+		codec_append(srlgs, json_integer((json_int_t)l->srlgs[k]), &ok);
+	/* "o" steals srlgs, also when the pack fails. */
+	j = json_pack("{s:s, s:s, s:s, s:o, s:o, s:s, s:o}", "id", l->id,
 	    "a", m->nodes[l->a].id, "b", m->nodes[l->b].id,
 	    "capacity_bps", codec_num(l->capacity_bps), "te_metric",
-	    codec_num(l->te_metric), "state", l->up ? "up" : "down");
+	    codec_num(l->te_metric), "state", l->up ? "up" : "down",
+	    "srlgs", srlgs);
+	if (!ok) {
+		json_decref(j);
+		return NULL;
+	}
+	return j;
 }
 
 char *

@@ -44,7 +44,9 @@ bool codec_matrix_name_ok(const char *name);
 
 /*
  * Decodes {"nodes":[...],"links":[...]} into a new model with no demands
- * and the default policy.  Returns 0 and *mp (the caller's), ERR_INVALID
+ * and the default policy.  A link's optional "srlgs" is an array of at
+ * most MODEL_SRLG_MAX distinct integers 0..4294967295 (ERR_INVALID at
+ * "links[i].srlgs" or "links[i].srlgs[k]" otherwise).  Returns 0 and *mp (the caller's), ERR_INVALID
  * (400) or ERR_TOOBIG (an array over its CODEC_*_MAX) with detail in e.
  */
 int codec_topology_decode(const char *text, size_t len, struct model **mp,
@@ -65,7 +67,10 @@ int codec_matrix_decode(const char *text, size_t len, const char *name,
 int codec_policy_decode(const char *text, size_t len, struct policy *p,
     struct err *e);
 
-/* Decodes {"state","capacity_bps","te_metric"} (at least one) into *lp. */
+/*
+ * Decodes {"state","capacity_bps","te_metric","srlgs"} (at least one) into
+ * *lp; "srlgs" as in a topology's links.
+ */
 int codec_link_patch_decode(const char *text, size_t len,
     struct link_patch *lp, struct err *e);
 
@@ -82,7 +87,10 @@ char *codec_matrices_encode(const struct db_name *names, size_t n,
     size_t *lenp);
 /* {"objective","headroom","matrix","balance_tolerance"}. */
 char *codec_policy_encode(const struct policy *p, size_t *lenp);
-/* One link of m: {"id","a","b","capacity_bps","te_metric","state"}. */
+/*
+ * One link of m: {"id","a","b","capacity_bps","te_metric","state",
+ * "srlgs"}; "srlgs" always, ascending ([] when none).
+ */
 char *codec_link_encode(const struct model *m, size_t i, size_t *lenp);
 
 #endif /* WEFT_API_CODEC_MODEL_H */

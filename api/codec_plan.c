@@ -23,8 +23,10 @@
 #include "codec_plan.h"
 #include "codec_json.h"
 #include "../daemon/base/err.h"
+#include "../daemon/base/xalloc.h"
 #include "../daemon/engine/model.h"
 #include "../daemon/engine/plan.h"
+#include "../daemon/engine/scenario.h"
 
 /*
  * Appends v to arr; clears *okp when v is NULL (a string that is not
@@ -184,6 +186,79 @@ summary(const struct model *m, const struct plan *p, int64_t revision,
 	return j;
 }
 
+static int
+cmp_price(const void *x, const void *y, void *arg)
+{
+	const struct plan *p = arg;
+	double a = p->arcs[*(const size_t *)x].shadow_price;
+	double b = p->arcs[*(const size_t *)y].shadow_price;
+
+	return a < b ? 1 : a > b ? -1 : 0;
+}
+
+/*
+ * Why traffic was left unserved: the saturated link directions of the
+ * admission stages, largest shadow price first, and the demands no path
+ * of up links joins (docs/api.md).
+ */
+static void
+explain(json_t *j, const struct model *m, const struct plan *p, bool *okp)
+{
+	json_t *bn, *cut;
+	const struct plan_arc *a;
+	const struct link *l;
+	size_t *arcs, n = 0, i, k, n_cut;
+	double cut_bps = 0;
+	bool *off;
+
+	arcs = xcalloc(p->n_arcs + 1, sizeof(*arcs));
+	for (i = 0; i < p->n_arcs; i++)
+		if (p->arcs[i].saturated)
+			arcs[n++] = i;
+	qsort_r(arcs, n, sizeof(*arcs), cmp_price, (void *)p);
+	bn = json_array();
+	for (i = 0; i < n && i < CODEC_EXPLAIN_MAX; i++) {
+		a = &p->arcs[arcs[i]];
+		l = &m->links[arcs[i] / 2];
+		codec_append(bn, json_pack("{s:s, s:s, s:s, s:o, s:o}",
+		    "link", l->id,
+		    "from", m->nodes[arcs[i] % 2 == 0 ? l->a : l->b].id,
+		    "to", m->nodes[arcs[i] % 2 == 0 ? l->b : l->a].id,
+		    "utilization", codec_num(a->util),
+		    "shadow_price", codec_num(a->shadow_price)), okp);
+	}
+	free(arcs);
+	off = xcalloc(m->n_demands + 1, sizeof(*off));
+	n_cut = model_cut_off(m, off, &cut_bps);
+	cut = json_array();
+	for (k = 0, i = 0; k < m->n_demands && i < CODEC_EXPLAIN_MAX; k++)
+		if (off[k]) {
+			i++;
+			codec_append(cut, json_pack("{s:s, s:s, s:i, s:o}",
+			    "src", m->nodes[m->demands[k].src].id,
+			    "dst", m->nodes[m->demands[k].dst].id,
+			    "priority", m->demands[k].priority,
+			    "rate_bps", codec_num(m->demands[k].rate_bps)),
+			    okp);
+		}
+	free(off);
+	if (json_object_set_new(j, "explain", json_pack("{s:o, s:o, s:o, "
+	    "s:I}", "bottleneck", bn, "cut_off", cut, "cut_off_bps",
+	    codec_num(cut_bps), "cut_off_total", (json_int_t)n_cut)) != 0)
+		*okp = false;
+}
+
+json_t *
+codec_plan_summary(const struct model *m, const struct plan *p,
+    int64_t revision, bool *okp)
+{
+	json_t *j = summary(m, p, revision, okp);
+
+	if (j != NULL && p != NULL && p->status == PLAN_PARTIAL)
+		explain(j, m, p, okp);
+	return j;
+}
+
 /* One path of demand d: rate, node ids from d's source, link ids. */
 static json_t *
 path_json(const struct model *m, const struct demand *d,
@@ -290,7 +365,8 @@ codec_plan_render(const struct model *m, const struct plan *p,
 	 * A json_pack() given a NULL "o" value fails and returns NULL, so
 	 * any failure inside shows up as a NULL text here.
 	 */
-	if ((s = codec_dump(summary(m, p, revision, &ok), &slen)) == NULL ||
+	if ((s = codec_dump(codec_plan_summary(m, p, revision, &ok),
+	    &slen)) == NULL ||
 	    (rt = codec_dump(routes(m, p, revision, &ok), &rlen)) == NULL ||
 	    (ld = codec_dump(loads(m, p, revision, &ok), &llen)) == NULL || !ok)
 		goto out;

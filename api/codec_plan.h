@@ -15,8 +15,22 @@
 #include <stddef.h>
 #include <stdint.h>
 
+#include <stdbool.h>
+
+struct json_t;
 struct model;
 struct plan;
+
+/* Entries of an explain list (bottleneck, cut_off) at most. */
+#define CODEC_EXPLAIN_MAX	1000
+
+/*
+ * The plan summary of GET /v1/plan as a JSON object (NULL p: a failed
+ * solve), with explain when traffic was left unserved; *okp false when
+ * something could not be built.  For api/codec_*.c (jansson).
+ */
+struct json_t *codec_plan_summary(const struct model *m,
+    const struct plan *p, int64_t revision, bool *okp);
 
 /*
  * Renders plan p, solved from model m and published as plan revision

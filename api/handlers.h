@@ -48,4 +48,16 @@ int h_plan_forwarding(struct req *rq, struct err *e);
 /* h_diff.c */
 int h_plan_diff(struct req *rq, struct err *e);
 
+/* h_whatif.c */
+int h_whatif(struct req *rq, struct err *e);
+
+/* h_sweeps.c */
+int h_sweep_start(struct req *rq, struct err *e);
+int h_sweeps_list(struct req *rq, struct err *e);
+int h_sweep_get(struct req *rq, struct err *e);
+int h_sweep_cancel(struct req *rq, struct err *e);
+int h_sweep_delete(struct req *rq, struct err *e);
+int h_sweep_results_csv(struct req *rq, struct err *e);
+int h_sweep_links_csv(struct req *rq, struct err *e);
+
 #endif /* WEFT_API_HANDLERS_H */

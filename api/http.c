@@ -26,6 +26,7 @@
 #include <sys/types.h>
 
 #include <netdb.h>
+#include <pthread.h>
 #include <stdarg.h>
 #include <stdatomic.h>
 #include <stdio.h>
@@ -47,7 +48,16 @@
 /* Body bytes read and dropped before the connection is simply closed. */
 #define DISCARD_MAX	((size_t)64 * 1024 * 1024)
 
+/* A deferred request's state (req->defer), under http->defer_mu. */
+enum {
+	DEFER_NONE = 0,
+	DEFER_WAITING = 1,	/* handed off, connection not yet suspended */
+	DEFER_SUSPENDED = 2,	/* connection suspended */
+	DEFER_DONE = 3,		/* reply set: send it */
+};
+
 struct http {
+	pthread_mutex_t defer_mu;
 	struct MHD_Daemon *mhd;
 	struct service *svc;	/* borrowed */
 	size_t max_body;	/* bytes */
@@ -104,6 +114,7 @@ req_new(struct http *h, struct MHD_Connection *conn, const char *url,
 	int r;
 
 	rq = xcalloc(1, sizeof(*rq));
+	rq->http = h;
 	rq->start_ns = now_ns();
 	rq->svc = h->svc;
 	rq->conn = conn;
@@ -228,6 +239,59 @@ send_reply(struct MHD_Connection *conn, struct req *rq)
 	return ret;
 }
 
+void
+http_defer(struct req *rq)
+{
+	struct http *h = rq->http;
+
+	pthread_mutex_lock(&h->defer_mu);
+	rq->defer = DEFER_WAITING;
+	pthread_mutex_unlock(&h->defer_mu);
+}
+
+void
+http_undefer(struct req *rq)
+{
+	struct http *h = rq->http;
+
+	pthread_mutex_lock(&h->defer_mu);
+	rq->defer = DEFER_NONE;
+	pthread_mutex_unlock(&h->defer_mu);
+}
+
+void
+http_complete(struct req *rq)
+{
+	struct http *h = rq->http;
+	int was;
+
+	pthread_mutex_lock(&h->defer_mu);
+	was = rq->defer;
+	rq->defer = DEFER_DONE;
+	if (was == DEFER_SUSPENDED)
+		MHD_resume_connection(rq->conn);
+	pthread_mutex_unlock(&h->defer_mu);
+}
+
+/*
+ * After the handler deferred: suspends the connection, unless the reply
+ * is already there.
+ */
+static enum MHD_Result
+suspend(struct http *h, struct MHD_Connection *conn, struct req *rq)
+{
+	pthread_mutex_lock(&h->defer_mu);
+	if (rq->defer == DEFER_DONE) {
+		pthread_mutex_unlock(&h->defer_mu);
+		rq->sent = true;
+		return send_reply(conn, rq);
+	}
+	rq->defer = DEFER_SUSPENDED;
+	MHD_suspend_connection(conn);
+	pthread_mutex_unlock(&h->defer_mu);
+	return MHD_YES;
+}
+
 static enum MHD_Result
 on_request(void *cls, struct MHD_Connection *conn, const char *url,
     const char *method, const char *version, const char *upload_data,
@@ -263,15 +327,33 @@ on_request(void *cls, struct MHD_Connection *conn, const char *url,
 		*upload_data_size = 0;
 		return MHD_YES;
 	}
+	if (rq->defer != DEFER_NONE) {
+		/* Resumed: the other thread set the reply. */
+		pthread_mutex_lock(&h->defer_mu);
+		r = rq->defer == DEFER_DONE && !rq->sent;
+		pthread_mutex_unlock(&h->defer_mu);
+		if (!r)
+			return MHD_YES;
+		rq->sent = true;
+		return send_reply(conn, rq);
+	}
 	if (rq->status != 0)
 		return MHD_YES;
 	if (rq->early != 0) {
 		reply_error(rq, rq->early, &rq->early_e);
 	} else if ((r = rq->route->fn(rq, &e)) != 0) {
+		if (rq->defer != DEFER_NONE) {
+			/* A handler defers only on success. */
+			log_err("handler failed after deferring id=%s", rq->id);
+			abort();
+		}
 		if (e.code == 0)
 			err_set(&e, r, NULL, "%s", err_str(r));
 		reply_error(rq, r, &e);
+	} else if (rq->defer != DEFER_NONE) {
+		return suspend(h, conn, rq);
 	}
+	rq->sent = true;
 	return send_reply(conn, rq);
 }
 
@@ -388,8 +470,9 @@ http_start(const struct http_conf *c, struct service *svc, struct http **hp,
 	h->svc = svc;
 	h->max_body = c->max_body_bytes;
 	h->boot = (unsigned)time(NULL);
+	pthread_mutex_init(&h->defer_mu, NULL);
 	flags = MHD_USE_INTERNAL_POLLING_THREAD | MHD_USE_AUTO |
-	    MHD_USE_ERROR_LOG;
+	    MHD_USE_ERROR_LOG | MHD_ALLOW_SUSPEND_RESUME;
 	if (ai->ai_family == AF_INET6)
 		flags |= MHD_USE_IPv6;
 	/* The logger goes first, so it sees problems with the others. */
@@ -416,6 +499,8 @@ http_start(const struct http_conf *c, struct service *svc, struct http **hp,
 out:
 	if (ai != NULL)
 		freeaddrinfo(ai);
+	if (h != NULL)
+		pthread_mutex_destroy(&h->defer_mu);
 	free(h);
 	return r;
 }
@@ -427,5 +512,6 @@ http_stop(struct http *h)
 		return;
 	if (h->mhd != NULL)
 		MHD_stop_daemon(h->mhd);
+	pthread_mutex_destroy(&h->defer_mu);
 	free(h);
 }

@@ -73,6 +73,10 @@ struct req {
 	char allow[64];		/* Allow header, "" if none */
 	int retry_after_s;	/* Retry-After header when > 0 */
 	char etag[32];		/* ETag header, "" if none */
+	/* deferred replies (http_defer) */
+	void *http;		/* borrowed: the server */
+	int defer;		/* enum in http.c, under the server's lock */
+	bool sent;		/* the reply is queued */
 };
 
 /*
@@ -95,5 +99,18 @@ const char *http_query(struct req *rq, const char *key);
 
 /* Returns request header key (case-insensitive), or NULL if absent. */
 const char *http_header(struct req *rq, const char *key);
+
+/*
+ * A handler that hands its work to another thread calls http_defer(rq)
+ * and returns 0 without a reply: the connection is suspended (no HTTP
+ * thread waits).  The other thread sets the reply on rq, then calls
+ * http_complete(rq) exactly once; the reply is then sent.  Until then rq
+ * stays valid and nothing else touches it.
+ */
+void http_defer(struct req *rq);
+void http_complete(struct req *rq);
+
+/* Takes back an http_defer() whose hand-off failed (nothing queued). */
+void http_undefer(struct req *rq);
 
 #endif /* WEFT_API_HTTP_H */

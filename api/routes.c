@@ -39,6 +39,16 @@ static const struct route routes[] = {
 	{ "GET", "/v1/plan/forwarding", h_plan_forwarding, BODY_NONE, 0 },
 	{ "GET", "/v1/plan/diff", h_plan_diff, BODY_NONE, 0 },
 	{ "GET", "/v1/model", h_model_export, BODY_NONE, 0 },
+	{ "POST", "/v1/whatif", h_whatif, BODY_JSON, ROUTE_BODY_CONF },
+	{ "POST", "/v1/sweeps", h_sweep_start, BODY_JSON, SMALL_BODY },
+	{ "GET", "/v1/sweeps", h_sweeps_list, BODY_NONE, 0 },
+	{ "GET", "/v1/sweeps/{id}", h_sweep_get, BODY_NONE, 0 },
+	{ "DELETE", "/v1/sweeps/{id}", h_sweep_delete, BODY_NONE, 0 },
+	{ "POST", "/v1/sweeps/{id}/cancel", h_sweep_cancel, BODY_NONE, 0 },
+	{ "GET", "/v1/sweeps/{id}/results.csv", h_sweep_results_csv,
+	    BODY_NONE, 0 },
+	{ "GET", "/v1/sweeps/{id}/links.csv", h_sweep_links_csv, BODY_NONE,
+	    0 },
 };
 
 /*

@@ -60,6 +60,16 @@ static const struct option_def {
 	    1, 256, "HTTP worker threads" },
 	{ "plan_history", OPT_LONG, offsetof(struct config, plan_history),
 	    "1000", 1, 1000000, "plan summaries kept in the database" },
+	{ "workers", OPT_LONG, offsetof(struct config, workers), "2", 1, 256,
+	    "threads for what-ifs and sweep scenarios" },
+	{ "whatif_queue", OPT_LONG, offsetof(struct config, whatif_queue),
+	    "2", 0, 10000, "what-ifs that may wait when every worker is busy" },
+	{ "whatif_time_limit_s", OPT_LONG,
+	    offsetof(struct config, whatif_time_limit_s), "30", 1, 86400,
+	    "time limit of one what-if or sweep scenario, s" },
+	{ "sweep_max_scenarios", OPT_LONG,
+	    offsetof(struct config, sweep_max_scenarios), "5000", 1, 10000000,
+	    "most scenarios one sweep may have" },
 };
 
 #define N_OPTIONS	(sizeof(options) / sizeof(options[0]))

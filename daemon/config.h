@@ -21,6 +21,10 @@ struct config {
 	long request_timeout_s;	/* idle connection timeout */
 	long http_threads;	/* HTTP worker threads */
 	long plan_history;	/* plan summaries kept in SQLite */
+	long workers;		/* what-if and sweep threads */
+	long whatif_queue;	/* what-ifs that may wait for a worker */
+	long whatif_time_limit_s;	/* per what-if or sweep scenario */
+	long sweep_max_scenarios;	/* largest sweep accepted */
 };
 
 /* Sets every field to "unset" (NULL strings, -1 numbers). */

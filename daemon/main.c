@@ -138,6 +138,10 @@ main(int argc, char **argv)
 	sc.debounce_ms = (int)c.debounce_ms;
 	sc.solve_time_limit_s = (double)c.solve_time_limit_s;
 	sc.plan_history_keep = (int)c.plan_history;
+	sc.workers = (int)c.workers;
+	sc.whatif_queue = (int)c.whatif_queue;
+	sc.whatif_time_limit_s = (double)c.whatif_time_limit_s;
+	sc.sweep_max_scenarios = c.sweep_max_scenarios;
 	if (service_start(&sc, &svc, &e) != 0)
 		fatal("database %s: %s", c.db, e.msg);
 
@@ -157,6 +161,8 @@ main(int argc, char **argv)
 	while (sigwait(&sigs, &sig) != 0 || (sig != SIGINT && sig != SIGTERM))
 		;
 	log_info("stopping signal=%d", sig);
+	/* Deferred requests are answered before the server stops. */
+	service_quiesce(svc);
 	http_stop(http);
 	service_stop(svc);
 	config_clear(&c);

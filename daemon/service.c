@@ -26,6 +26,8 @@
 
 #include "service.h"
 #include "solver_thread.h"
+#include "sweeps.h"
+#include "workers.h"
 #include "base/err.h"
 #include "base/log.h"
 #include "base/xalloc.h"
@@ -45,6 +47,10 @@ struct service {
 	int64_t next_plan_revision;	/* solver thread only */
 	struct service_status st;	/* failure fields under pub_mu */
 	struct solver *solver;		/* owned */
+	struct seed_box *seed;		/* owned reference, under pub_mu */
+	struct workers *workers;	/* owned */
+	struct sweeps *sweeps;		/* owned */
+	bool quiesced;
 };
 
 static void
@@ -56,6 +62,71 @@ published_free(struct published *p)
 	free(p->routes_json);
 	free(p->loads_json);
 	free(p);
+}
+
+void
+service_seed_unref(struct seed_box *b)
+{
+	if (b == NULL || atomic_fetch_sub(&b->refs, 1) != 1)
+		return;
+	engine_seed_free(b->sd);
+	service_plan_unref(b->pub);
+	free(b);
+}
+
+struct seed_box *
+service_seed_ref(struct service *svc)
+{
+	struct seed_box *b;
+
+	pthread_mutex_lock(&svc->pub_mu);
+	if ((b = svc->seed) != NULL)
+		atomic_fetch_add(&b->refs, 1);
+	pthread_mutex_unlock(&svc->pub_mu);
+	return b;
+}
+
+const struct service_conf *
+service_conf(const struct service *svc)
+{
+	return &svc->conf;
+}
+
+struct workers *
+service_workers(struct service *svc)
+{
+	return svc->workers;
+}
+
+struct sweeps *
+service_sweeps(struct service *svc)
+{
+	return svc->sweeps;
+}
+
+struct db *
+service_db_lock(struct service *svc)
+{
+	pthread_mutex_lock(&svc->db_mu);
+	return svc->db;
+}
+
+void
+service_db_unlock(struct service *svc)
+{
+	pthread_mutex_unlock(&svc->db_mu);
+}
+
+int
+service_load_matrix(struct service *svc, const char *name,
+    struct matrix **mxp, struct err *e)
+{
+	int r;
+
+	pthread_mutex_lock(&svc->db_mu);
+	r = db_load_matrix(svc->db, name, mxp, e);
+	pthread_mutex_unlock(&svc->db_mu);
+	return r;
 }
 
 void
@@ -132,12 +203,14 @@ keep(struct service *svc, struct published *pub)
 	return out;
 }
 
-/* Runs on the solver thread; takes ownership of m and p. */
+/* Runs on the solver thread; takes ownership of m, p and sd. */
 static void
-publish(void *ctx, struct model *m, struct plan *p, const struct err *e)
+publish(void *ctx, struct model *m, struct plan *p, struct engine_seed *sd,
+    const struct err *e)
 {
 	struct service *svc = ctx;
 	struct published *pub, *old, *dropped;
+	struct seed_box *box, *old_box;
 	struct err re = { 0 };
 
 	if (p == NULL) {
@@ -148,6 +221,7 @@ publish(void *ctx, struct model *m, struct plan *p, const struct err *e)
 		    e != NULL ? e->msg : "solve failed");
 		pthread_mutex_unlock(&svc->pub_mu);
 		model_free(m);
+		engine_seed_free(sd);
 		return;
 	}
 	pub = xcalloc(1, sizeof(*pub));
@@ -166,10 +240,16 @@ publish(void *ctx, struct model *m, struct plan *p, const struct err *e)
 		    (long long)m->revision);
 		svc->next_plan_revision--;
 		published_free(pub);
+		engine_seed_free(sd);
 		err_set(&re, ERR_INTERNAL, NULL, "plan rendering failed");
-		publish(ctx, NULL, NULL, &re);
+		publish(ctx, NULL, NULL, NULL, &re);
 		return;
 	}
+	box = xcalloc(1, sizeof(*box));
+	atomic_init(&box->refs, 1);
+	atomic_fetch_add(&pub->refs, 1);
+	box->pub = pub;
+	box->sd = sd;
 
 	pthread_mutex_lock(&svc->db_mu);
 	if (db_record_plan(svc->db, pub->revision, pub->model_revision,
@@ -181,12 +261,15 @@ publish(void *ctx, struct model *m, struct plan *p, const struct err *e)
 	pthread_mutex_lock(&svc->pub_mu);
 	old = svc->cur;
 	svc->cur = pub;
+	old_box = svc->seed;
+	svc->seed = box;
 	dropped = keep(svc, pub);
 	svc->st.last_solve_failed = false;
 	svc->st.last_error[0] = '\0';
 	pthread_mutex_unlock(&svc->pub_mu);
 	service_plan_unref(old);
 	service_plan_unref(dropped);
+	service_seed_unref(old_box);
 	log_info("plan published revision=%lld model_revision=%lld status=%s "
 	    "max_util=%.6f carried_bps=%.6g unserved_bps=%.6g solve_ms=%.1f",
 	    (long long)pub->revision, (long long)pub->model_revision,
@@ -216,11 +299,19 @@ service_start(const struct service_conf *c, struct service **svcp,
 	sc.db_path = c->db_path;
 	sc.debounce_ms = c->debounce_ms;
 	sc.time_limit_s = c->solve_time_limit_s;
+	if ((r = workers_start(c->workers, c->whatif_queue,
+	    &svc->workers)) != 0) {
+		err_set(e, r, NULL, "cannot start the worker threads");
+		goto fail;
+	}
+	svc->sweeps = sweeps_new(svc);
 	if ((r = solver_start(&sc, publish, svc, &svc->solver, e)) != 0)
 		goto fail;
 	*svcp = svc;
 	return 0;
 fail:
+	sweeps_free(svc->sweeps);
+	workers_stop(svc->workers);
 	db_close(svc->db);
 	pthread_mutex_destroy(&svc->db_mu);
 	pthread_mutex_destroy(&svc->pub_mu);
@@ -235,7 +326,9 @@ service_stop(struct service *svc)
 
 	if (svc == NULL)
 		return;
+	service_quiesce(svc);
 	solver_stop(svc->solver);
+	service_seed_unref(svc->seed);
 	service_plan_unref(svc->cur);
 	for (i = 0; i < svc->kept_n; i++)
 		service_plan_unref(svc->kept[i]);
@@ -243,6 +336,19 @@ service_stop(struct service *svc)
 	pthread_mutex_destroy(&svc->db_mu);
 	pthread_mutex_destroy(&svc->pub_mu);
 	free(svc);
+}
+
+void
+service_quiesce(struct service *svc)
+{
+	if (svc->quiesced)
+		return;
+	svc->quiesced = true;
+	sweeps_stop(svc->sweeps);
+	workers_stop(svc->workers);
+	svc->workers = NULL;
+	sweeps_free(svc->sweeps);
+	svc->sweeps = NULL;
 }
 
 /* ---- writes: commit, then wake the solver ---- */

@@ -49,6 +49,10 @@ struct service_conf {
 	int debounce_ms;	/* quiet time before a re-solve */
 	double solve_time_limit_s;
 	int plan_history_keep;	/* plan summaries kept in SQLite */
+	int workers;		/* threads for what-ifs and sweeps */
+	int whatif_queue;	/* what-ifs that may wait for a worker */
+	double whatif_time_limit_s;	/* per what-if or sweep scenario */
+	long sweep_max_scenarios;	/* largest sweep accepted */
 };
 
 /*
@@ -128,5 +132,45 @@ void service_plans_kept(struct service *svc, int64_t *oldestp,
  */
 int service_export_model(struct service *svc, enum export_format format,
     int stage, char **textp, size_t *lenp, struct err *e);
+
+/*
+ * The live plan with the seed of the master it came from, for what-ifs
+ * and sweeps: pub is the published plan (a reference), sd its seed (NULL
+ * when that plan was not solved by a kept path master).  Immutable.
+ */
+struct seed_box {
+	atomic_int refs;
+	struct published *pub;
+	struct engine_seed *sd;
+};
+
+/* The newest live plan's box with a reference taken; NULL before the
+   first plan.  Release with service_seed_unref() on any thread. */
+struct seed_box *service_seed_ref(struct service *svc);
+void service_seed_unref(struct seed_box *b);
+
+/* The service's settings, its worker pool and its sweeps. */
+const struct service_conf *service_conf(const struct service *svc);
+struct workers *service_workers(struct service *svc);
+struct sweeps *service_sweeps(struct service *svc);
+
+/*
+ * The API connection, for the sweep runner's writes and reads (which do
+ * not change the model revision): lock, use, unlock.
+ */
+struct db *service_db_lock(struct service *svc);
+void service_db_unlock(struct service *svc);
+
+/* Loads a stored matrix by name (ERR_NOTFOUND when absent). */
+int service_load_matrix(struct service *svc, const char *name,
+    struct matrix **mxp, struct err *e);
+
+/*
+ * Stops what-ifs and sweeps: a running sweep is marked interrupted, queued
+ * what-ifs are answered busy, worker threads end.  Called before the HTTP
+ * server stops (a deferred request must be answered first), then
+ * service_stop().
+ */
+void service_quiesce(struct service *svc);
 
 #endif /* WEFT_DAEMON_SERVICE_H */

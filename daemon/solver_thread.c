@@ -99,7 +99,7 @@ solve_once(struct solver *s)
 	if ((r = db_load_model(s->db, &m, &e)) != 0) {
 		log_err("snapshot failed code=%s where=%s msg=\"%s\"",
 		    err_word(r), e.where, e.msg);
-		s->fn(s->ctx, NULL, NULL, &e);
+		s->fn(s->ctx, NULL, NULL, NULL, &e);
 		return;
 	}
 	if (m->revision == s->solved_revision) {
@@ -125,7 +125,7 @@ solve_once(struct solver *s)
 		if (e.code == 0)
 			err_set(&e, r, NULL, "%s", err_str(r));
 		s->solved_revision = m->revision;
-		s->fn(s->ctx, m, NULL, &e);
+		s->fn(s->ctx, m, NULL, NULL, &e);
 		return;
 	}
 	log_info("plan solved model_revision=%lld formulation=%s status=%s "
@@ -136,7 +136,9 @@ solve_once(struct solver *s)
 	    p->cg_rounds, p->columns, p->gap, p->warm ? "yes" : "no",
 	    p->moved_bps);
 	s->solved_revision = m->revision;
-	s->fn(s->ctx, m, p, NULL);
+	/* What-ifs and sweeps start from a copy of the kept master. */
+	s->fn(s->ctx, m, p, p->formulation == FORM_PATH ?
+	    engine_seed_take(s->state) : NULL, NULL);
 }
 
 static void *

@@ -10,13 +10,16 @@ struct model;
 struct plan;
 struct solver;
 
+struct engine_seed;
+
 /*
  * Called on the solver thread after each solve: with a plan (the callee
- * takes ownership of m and p) or, when the solve failed, with p NULL and
- * the error in e (m is still handed over).
+ * takes ownership of m, p and sd, the seed of the kept master the plan
+ * came from, NULL when there is none) or, when the solve failed, with p
+ * and sd NULL and the error in e (m is still handed over).
  */
 typedef void solver_publish_fn(void *ctx, struct model *m, struct plan *p,
-    const struct err *e);
+    struct engine_seed *sd, const struct err *e);
 
 struct solver_conf {
 	const char *db_path;	/* the thread opens its own connection */

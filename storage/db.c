@@ -13,8 +13,18 @@
  * migrate it.  The model revision lives in meta under "model_revision";
  * every model write adds exactly one inside its own transaction
  * (db_begin_change), so a revision names exactly one committed state.
+ * A sweep left "running" in the file belongs to a process that is gone,
+ * unless this process has the file open already (a second connection,
+ * opened by another thread while a sweep runs): open_files counts this
+ * process's connections per file (device and inode, so two spellings of
+ * one path are one file), and only the first connection marks such sweeps
+ * "interrupted".
  */
 
+#include <sys/stat.h>
+#include <sys/types.h>
+
+#include <pthread.h>
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
@@ -218,6 +228,76 @@ db_column_strdup(sqlite3_stmt *st, int col)
 	return s != NULL ? xstrdup((const char *)s) : NULL;
 }
 
+/* ---- connections of this process, per file ---- */
+
+struct open_file {
+	dev_t dev;
+	ino_t ino;
+	int n;			/* connections open, >= 1 */
+	struct open_file *next;	/* owned */
+};
+
+static pthread_mutex_t open_mu = PTHREAD_MUTEX_INITIALIZER;
+static struct open_file *open_files;	/* guarded by open_mu */
+
+/*
+ * Counts db as a connection to the file at path; when it is the first of
+ * this process, marks the file's running sweeps interrupted first (under
+ * open_mu, so two threads opening at once agree on which is first).  A
+ * path stat() cannot see (SQLite's ":memory:") is private to db: it
+ * counts as first and is not counted.
+ */
+static int
+count_open(struct db *db, const char *path, struct err *e)
+{
+	struct open_file *f;
+	struct stat sb;
+	int r = ERR_INTERNAL;
+
+	if (stat(path, &sb) != 0)
+		return db_sweeps_interrupt(db, e);
+	pthread_mutex_lock(&open_mu);
+	for (f = open_files; f != NULL; f = f->next)
+		if (f->dev == sb.st_dev && f->ino == sb.st_ino)
+			break;
+	if (f == NULL) {
+		if ((r = db_sweeps_interrupt(db, e)) != 0)
+			goto out;
+		f = xcalloc(1, sizeof(*f));
+		f->dev = sb.st_dev;
+		f->ino = sb.st_ino;
+		f->next = open_files;
+		open_files = f;
+	}
+	f->n++;
+	db->counted = true;
+	db->dev = sb.st_dev;
+	db->ino = sb.st_ino;
+	r = 0;
+out:
+	pthread_mutex_unlock(&open_mu);
+	return r;
+}
+
+static void
+count_close(struct db *db)
+{
+	struct open_file **fp, *f;
+
+	if (!db->counted)
+		return;
+	pthread_mutex_lock(&open_mu);
+	for (fp = &open_files; (f = *fp) != NULL; fp = &f->next)
+		if (f->dev == db->dev && f->ino == db->ino)
+			break;
+	if (f != NULL && --f->n == 0) {
+		*fp = f->next;
+		free(f);
+	}
+	pthread_mutex_unlock(&open_mu);
+	db->counted = false;
+}
+
 /* ---- open, pragmas, migrations ---- */
 
 /*
@@ -375,7 +455,8 @@ db_open(const char *path, struct db **dbp, struct err *e)
 		    "this SQLite does not enforce foreign keys");
 		goto out;
 	}
-	if ((r = migrate(db, e)) != 0)
+	if ((r = migrate(db, e)) != 0 ||
+	    (r = count_open(db, path, e)) != 0)
 		goto out;
 
 	*dbp = db;
@@ -391,6 +472,7 @@ db_close(struct db *db)
 {
 	if (db == NULL)
 		return;
+	count_close(db);
 	/* All statements are finalized by the calls that made them, so
 	   sqlite3_close() cannot be left busy. */
 	sqlite3_close(db->sq);

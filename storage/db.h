@@ -1,14 +1,17 @@
 /* SPDX-License-Identifier: GPL-3.0-or-later */
-/* The SQLite store: topology, named traffic matrices, policy, plan history. */
+/* The SQLite store: topology, named traffic matrices, policy, plan history,
+   survivability sweeps. */
 #ifndef WEFT_STORAGE_DB_H
 #define WEFT_STORAGE_DB_H
 
 /*
  * DESIGN
  * One database file in WAL mode (synchronous=FULL: an acknowledged write
- * survives power loss).  Every write runs in one IMMEDIATE transaction that
- * also bumps the model revision, so a write is either wholly there with its
- * new revision or not there at all.  A struct db is one connection: each
+ * survives power loss).  Every model write runs in one IMMEDIATE
+ * transaction that also bumps the model revision, so a write is either
+ * wholly there with its new revision or not there at all.  Plan records
+ * and sweeps are not model writes: they leave the revision alone (a bump
+ * would make the solver plan again).  A struct db is one connection: each
  * thread opens its own (the solver thread one, the API one guarded by the
  * caller's mutex).  SQL only through prepared statements with bound
  * parameters.  Schema changes are numbered migrations applied at open.
@@ -26,8 +29,12 @@ struct db;
 
 /*
  * Opens (creating if needed) the database at path, sets WAL and pragmas,
- * applies pending migrations.  Returns 0 and the connection in *dbp, or
- * ERR_DB / ERR_IO with detail in e.
+ * applies pending migrations.  When no other connection of this process
+ * has the file open, every sweep still "running" is set to "interrupted"
+ * (its process crashed or stopped while it ran), with finished_at now; a
+ * second connection opened while the first is open leaves sweeps alone,
+ * so a thread may open its own connection while a sweep runs.  Returns 0
+ * and the connection in *dbp, or ERR_DB / ERR_IO with detail in e.
  */
 int db_open(const char *path, struct db **dbp, struct err *e);
 
@@ -38,11 +45,12 @@ void db_close(struct db *db);
 int db_revision(struct db *db, int64_t *revp, struct err *e);
 
 /*
- * Replaces nodes and links with those of topo (demands and policy of topo
- * are ignored).  Stored matrices are kept as they are, also when they name
- * nodes topo does not have (see db_load_model()).  Returns 0 with the new
- * model revision in *revp, or ERR_INVALID (a bad or duplicate id, a bad
- * number) with where "nodes[i].field" or "links[i].field".
+ * Replaces nodes and links, with the links' SRLGs, with those of topo
+ * (demands and policy of topo are ignored).  Stored matrices are kept as
+ * they are, also when they name nodes topo does not have (see
+ * db_load_model()).  Returns 0 with the new model revision in *revp, or
+ * ERR_INVALID (a bad or duplicate id, a bad number, more than
+ * MODEL_SRLG_MAX SRLGs) with where "nodes[i].field" or "links[i].field".
  */
 int db_put_topology(struct db *db, const struct model *topo, int64_t *revp,
     struct err *e);
@@ -74,18 +82,27 @@ int db_put_network(struct db *db, const struct model *net, const char *name,
 int db_put_policy(struct db *db, const struct policy *p, int64_t *revp,
     struct err *e);
 
-/* Changes one link; fields are applied when their has_ flag is set. */
+/*
+ * Changes one link; fields are applied when their has_ flag is set.  With
+ * has_srlgs, the link's SRLGs become exactly srlgs[0..n_srlgs) (repeats
+ * count once; n_srlgs 0 takes the link out of every SRLG): ERR_INVALID at
+ * "srlgs" for more than MODEL_SRLG_MAX.  ERR_NOTFOUND at "id" for an
+ * unknown link.
+ */
 struct link_patch {
-	bool has_up, has_capacity, has_metric;
+	bool has_up, has_capacity, has_metric, has_srlgs;
 	bool up;
 	double capacity_bps;
 	double te_metric;
+	uint32_t srlgs[MODEL_SRLG_MAX];	/* the new SRLGs, any order */
+	size_t n_srlgs;
 };
 int db_patch_link(struct db *db, const char *id, const struct link_patch *lp,
     int64_t *revp, struct err *e);
 
 /*
- * Reads the whole model the solver plans: topology, policy, and the
+ * Reads the whole model the solver plans: topology (links with their
+ * SRLGs, ascending), policy, and the
  * policy's matrix as demands (none if it does not exist), with the
  * revision, in one read transaction.  A demand whose src or dst is not a
  * node of the stored topology is not in (*mp)->demands; such demands are
@@ -122,5 +139,108 @@ int db_record_plan(struct db *db, int64_t plan_revision, int64_t
 /* The highest plan revision recorded (0 if none), so restarts continue
    counting. */
 int db_last_plan_revision(struct db *db, int64_t *revp, struct err *e);
+
+/*
+ * Survivability sweeps.  None of these writes is a model change: the model
+ * revision stays as it is.  JSON texts are the caller's and kept as they
+ * are given.  Numbers of a result that are NaN are stored as SQL NULL and
+ * read back as NaN.  ids are never reused, also after a delete.
+ */
+struct db_sweep {
+	int64_t id;
+	char kind[16];		/* "links", "nodes", "srlgs", "link-pairs" */
+	char state[16];		/* "running", "done", "cancelled",
+				   "interrupted", "failed" */
+	int64_t model_revision, plan_revision;
+	long total, done;	/* scenarios in all, finished so far */
+	double elapsed_s;	/* seconds of running so far */
+	char created_at[32], finished_at[32];	/* ISO 8601 UTC
+				   "2026-12-02T07:10:00Z"; "" when not
+				   finished */
+	char *params_json;	/* owned: the request, normalised by the
+				   caller */
+	char *report_json;	/* owned, NULL until finished with a report */
+	char *error;		/* owned, NULL unless failed */
+};
+struct db_sweep_result {
+	long idx;		/* the scenario's index in the sweep, >= 0 */
+	char *fail_json;	/* owned: e.g. {"links":["L1","L2"]} */
+	char status[16];	/* "optimal", "partial", "empty", "failed" */
+	char *error;		/* owned, NULL unless failed */
+	double max_util, carried_bps, unserved_bps, total_cost, solve_ms,
+	    moved_bps;		/* as the scenario's plan gives them */
+};
+
+/*
+ * Creates a sweep of kind ("links", "nodes", "srlgs", "link-pairs") over
+ * total scenarios (>= 0) in state "running", done 0, created_at now.
+ * Returns 0 and its id in *idp, or ERR_INVALID at "kind", "total" or
+ * "params_json" (NULL).
+ */
+int db_sweep_create(struct db *db, const char *kind, int64_t model_rev,
+    int64_t plan_rev, long total, const char *params_json, int64_t *idp,
+    struct err *e);
+
+/*
+ * Inserts the n results rs (rs may be NULL when n is 0) and sets done and
+ * elapsed_s, in one transaction.  ERR_NOTFOUND at "id" for an unknown
+ * sweep; ERR_INVALID for done outside [0, total], a negative or
+ * non-finite elapsed_s, or a result with an idx outside [0, total), no
+ * fail_json or an unknown status ("results[i].field", i counting rs);
+ * ERR_CONFLICT at "results[i].idx" for an idx already stored.  Nothing is
+ * written on failure.  Any state is accepted (a cancelled sweep may still
+ * store the scenarios that were in progress).
+ */
+int db_sweep_progress(struct db *db, int64_t id, long done, double elapsed_s,
+    const struct db_sweep_result *rs, size_t n, struct err *e);
+
+/*
+ * Sets the final state ("done", "cancelled", "interrupted" or "failed";
+ * anything else is ERR_INVALID at "state"), elapsed_s, finished_at (now),
+ * report_json and error (either may be NULL, which clears it).
+ * ERR_NOTFOUND at "id" for an unknown sweep.  A sweep finished before is
+ * finished again (the last call wins).
+ */
+int db_sweep_finish(struct db *db, int64_t id, const char *state,
+    double elapsed_s, const char *report_json, const char *error,
+    struct err *e);
+
+/*
+ * Reads sweep id into *sp (new, the caller's: db_sweep_free()), all
+ * members filled.  ERR_NOTFOUND at "id" when absent.
+ */
+int db_sweep_get(struct db *db, int64_t id, struct db_sweep **sp,
+    struct err *e);
+
+/*
+ * Reads the results of sweep id, by idx ascending, into *rp (new array of
+ * *np, the caller's: db_sweep_results_free(); NULL when none).
+ * ERR_NOTFOUND at "id" when the sweep is absent.
+ */
+int db_sweep_results(struct db *db, int64_t id, struct db_sweep_result **rp,
+    size_t *np, struct err *e);
+
+/*
+ * Lists every sweep, newest (highest id) first, into *sp (new array of *np,
+ * the caller's: db_sweeps_free(); NULL when none).  params_json and
+ * report_json are left NULL; error is filled.
+ */
+int db_sweep_list(struct db *db, struct db_sweep **sp, size_t *np,
+    struct err *e);
+
+/*
+ * Deletes sweep id and its results.  ERR_NOTFOUND at "id" when absent;
+ * ERR_CONFLICT at "id" when it is running (cancel it first).
+ */
+int db_sweep_delete(struct db *db, int64_t id, struct err *e);
+
+/* Frees one sweep from db_sweep_get(); s may be NULL. */
+void db_sweep_free(struct db_sweep *s);
+
+/* Frees an array of n sweeps from db_sweep_list(); s may be NULL. */
+void db_sweeps_free(struct db_sweep *s, size_t n);
+
+/* Frees an array of n results from db_sweep_results(); r may be NULL. */
+void db_sweep_results_free(struct db_sweep_result *r, size_t n);
 
 #endif /* WEFT_STORAGE_DB_H */

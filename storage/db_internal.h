@@ -9,6 +9,8 @@
  * 0 or a negative ERR_ code with detail in e, like the public calls.
  */
 
+#include <sys/types.h>
+
 #include <stdbool.h>
 #include <stdint.h>
 
@@ -21,6 +23,9 @@ struct err;
 
 struct db {
 	sqlite3 *sq;		/* owned: one connection, one thread at a time */
+	bool counted;		/* counted in db.c's open files (dev, ino) */
+	dev_t dev;		/* the database file, when counted */
+	ino_t ino;
 };
 
 /*
@@ -115,5 +120,12 @@ int db_read_matrix(struct db *db, const char *name, struct matrix **mxp,
  */
 struct policy;
 int db_read_policy(struct db *db, struct policy *p, struct err *e);
+
+/*
+ * Sets every sweep still "running" to "interrupted", finished_at now: the
+ * process that ran them is gone.  db_open() calls it for the first
+ * connection of this process to a file.
+ */
+int db_sweeps_interrupt(struct db *db, struct err *e);
 
 #endif /* WEFT_STORAGE_DB_INTERNAL_H */

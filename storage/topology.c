@@ -1,5 +1,6 @@
 /* SPDX-License-Identifier: GPL-3.0-or-later */
-/* Stored topology: replacing nodes and links, patching a link, loading. */
+/* Stored topology: replacing nodes and links (with their SRLGs), patching a
+   link, loading. */
 
 /*
  * DESIGN
@@ -8,10 +9,13 @@
  * position as ordinal, so loading them ORDER BY ordinal gives back the
  * caller's order (plans are arrays parallel to nodes[] and links[]).  The
  * foreign keys from links to nodes are deferred to commit, so the rows may
- * be briefly dangling mid-transaction.  Stored matrices are not touched by
- * a replacement, and nothing ties their demands to the nodes: a matrix may
- * name nodes the new topology lacks, so replacing the topology never fails
- * because of an old matrix and never loses one.  Loading reads topology,
+ * be briefly dangling mid-transaction.  A link's SRLGs are rows of
+ * link_srlg, written after the links and deleted before them; they are
+ * read back ascending, the order model_set_link_srlgs() keeps; a patch
+ * with SRLGs replaces that link's rows.  Stored matrices are not touched
+ * by a replacement, and nothing ties their demands to the nodes: a matrix
+ * may name nodes the new topology lacks, so replacing the topology never
+ * fails because of an old matrix and never loses one.  Loading reads topology,
  * policy, demands and revision in one read transaction, so the snapshot is
  * one committed state; demands of the policy's matrix whose src or dst is
  * not in the loaded topology are left out of the model's demands and only
@@ -19,6 +23,7 @@
  */
 
 #include <math.h>
+#include <stdint.h>
 #include <stdio.h>
 #include <string.h>
 
@@ -110,6 +115,12 @@ check_topology(const struct model *topo, struct err *e)
 			    i);
 			return err_set(e, ERR_INVALID, where,
 			    "TE metric must be in (0, %g]", MODEL_METRIC_MAX);
+		}
+		if (l->n_srlgs > MODEL_SRLG_MAX ||
+		    (l->n_srlgs > 0 && l->srlgs == NULL)) {
+			snprintf(where, sizeof(where), "links[%zu].srlgs", i);
+			return err_set(e, ERR_INVALID, where, "a link is in at "
+			    "most %d SRLGs", MODEL_SRLG_MAX);
 		}
 	}
 	return 0;
@@ -220,17 +231,73 @@ out:
 	return r;
 }
 
+/*
+ * Prepares the insert of one link's SRLG (?1 link id, ?2 SRLG).  A repeat
+ * is stored once.
+ */
+static int
+prepare_srlg(struct db *db, sqlite3_stmt **stp, struct err *e)
+{
+	return db_prepare(db, "INSERT INTO link_srlg (link, srlg) "
+	    "VALUES (?1, ?2) ON CONFLICT DO NOTHING", stp, e);
+}
+
+/* Stores the n SRLGs s of link id with st from prepare_srlg(). */
+static int
+put_link_srlgs(struct db *db, sqlite3_stmt *st, const char *id,
+    const uint32_t *s, size_t n, struct err *e)
+{
+	size_t k;
+	int r, rc;
+
+	for (k = 0; k < n; k++) {
+		sqlite3_reset(st);
+		if ((rc = sqlite3_bind_text(st, 1, id, -1, SQLITE_STATIC)) !=
+		    SQLITE_OK ||
+		    (rc = sqlite3_bind_int64(st, 2, (sqlite3_int64)s[k])) !=
+		    SQLITE_OK)
+			return db_fail(db, rc, "binding an SRLG", e);
+		if ((r = db_step(db, st, NULL, "storing an SRLG", e)) != 0)
+			return r;
+	}
+	return 0;
+}
+
+static int
+put_srlgs(struct db *db, const struct model *topo, struct err *e)
+{
+	sqlite3_stmt *st = NULL;
+	const struct link *l;
+	size_t i;
+	int r = ERR_INTERNAL;
+
+	if ((r = prepare_srlg(db, &st, e)) != 0)
+		goto out;
+	for (i = 0; i < topo->n_links; i++) {
+		l = &topo->links[i];
+		if ((r = put_link_srlgs(db, st, l->id, l->srlgs, l->n_srlgs,
+		    e)) != 0)
+			goto out;
+	}
+	r = 0;
+out:
+	sqlite3_finalize(st);
+	return r;
+}
+
 /* Inside the write transaction: replaces all nodes and links. */
 static int
 replace_topology(struct db *db, const struct model *topo, struct err *e)
 {
 	int r;
 
-	/* Links first: nothing else refers to them. */
-	if ((r = db_exec(db, "DELETE FROM links", e)) != 0 ||
+	/* SRLGs, then links: each refers to what follows it. */
+	if ((r = db_exec(db, "DELETE FROM link_srlg", e)) != 0 ||
+	    (r = db_exec(db, "DELETE FROM links", e)) != 0 ||
 	    (r = db_exec(db, "DELETE FROM nodes", e)) != 0 ||
 	    (r = put_nodes(db, topo, e)) != 0 ||
-	    (r = put_links(db, topo, e)) != 0)
+	    (r = put_links(db, topo, e)) != 0 ||
+	    (r = put_srlgs(db, topo, e)) != 0)
 		return r;
 	return 0;
 }
@@ -364,6 +431,11 @@ db_patch_link(struct db *db, const char *id, const struct link_patch *lp,
 		    "TE metric must be in (0, %g]", MODEL_METRIC_MAX);
 		goto out;
 	}
+	if (lp->has_srlgs && lp->n_srlgs > MODEL_SRLG_MAX) {
+		r = err_set(e, ERR_INVALID, "srlgs", "a link is in at most %d "
+		    "SRLGs, not %zu", MODEL_SRLG_MAX, lp->n_srlgs);
+		goto out;
+	}
 	/* A NULL parameter keeps the stored value. */
 	if ((r = db_begin_change(db, &rev, e)) != 0 ||
 	    (r = db_prepare(db, "UPDATE links SET up = coalesce(?2, up), "
@@ -388,6 +460,14 @@ db_patch_link(struct db *db, const char *id, const struct link_patch *lp,
 		r = err_set(e, ERR_NOTFOUND, "id", "no link \"%s\"", id);
 		goto out;
 	}
+	sqlite3_finalize(st);
+	st = NULL;
+	if (lp->has_srlgs &&
+	    ((r = db_run_key(db, "DELETE FROM link_srlg WHERE link = ?1", id,
+	    NULL, "deleting a link's SRLGs", e)) != 0 ||
+	    (r = prepare_srlg(db, &st, e)) != 0 ||
+	    (r = put_link_srlgs(db, st, id, lp->srlgs, lp->n_srlgs, e)) != 0))
+		goto out;
 	if ((r = db_commit(db, e)) != 0)
 		goto out;
 	*revp = rev;
@@ -476,6 +556,69 @@ out:
 }
 
 /*
+ * Gives the links of m (read by read_links()) their stored SRLGs.  Rows
+ * come by link, so each link's run is gathered and set at once.
+ */
+static int
+read_srlgs(struct db *db, struct model *m, struct err *e)
+{
+	sqlite3_stmt *st = NULL;
+	uint32_t buf[MODEL_SRLG_MAX];
+	sqlite3_int64 ordinal, cur = -1, g;
+	const char *id;
+	size_t n = 0;
+	long li = -1;
+	int r = ERR_INTERNAL, rc;
+
+	if ((r = db_prepare(db, "SELECT l.ordinal, l.id, s.srlg FROM link_srlg "
+	    "s JOIN links l ON l.id = s.link ORDER BY l.ordinal, s.srlg", &st,
+	    e)) != 0)
+		goto out;
+	for (;;) {
+		rc = sqlite3_step(st);
+		if (rc != SQLITE_ROW && rc != SQLITE_DONE) {
+			r = db_fail(db, rc, "reading SRLGs", e);
+			goto out;
+		}
+		ordinal = rc == SQLITE_ROW ? sqlite3_column_int64(st, 0) : -1;
+		/* The end of a link's run (or of all rows): set it. */
+		if (li >= 0 && (rc == SQLITE_DONE || ordinal != cur)) {
+			if ((r = model_set_link_srlgs(m, (size_t)li, buf, n,
+			    "links", NULL)) != 0) {
+				r = err_set(e, ERR_DB, NULL, "stored link \"%s\" "
+				    "has unusable SRLGs", m->links[li].id);
+				goto out;
+			}
+			li = -1;
+		}
+		if (rc == SQLITE_DONE)
+			break;
+		if (li < 0) {
+			id = (const char *)sqlite3_column_text(st, 1);
+			if (id == NULL || (li = model_find_link(m, id)) < 0) {
+				r = err_set(e, ERR_DB, NULL, "stored SRLGs name "
+				    "a link that was not read");
+				goto out;
+			}
+			cur = ordinal;
+			n = 0;
+		}
+		g = sqlite3_column_int64(st, 2);
+		if (g < 0 || g > UINT32_MAX || n == MODEL_SRLG_MAX) {
+			r = err_set(e, ERR_DB, NULL, "stored link \"%s\" has "
+			    "an SRLG out of range or more than %d SRLGs",
+			    m->links[li].id, MODEL_SRLG_MAX);
+			goto out;
+		}
+		buf[n++] = (uint32_t)g;
+	}
+	r = 0;
+out:
+	sqlite3_finalize(st);
+	return r;
+}
+
+/*
  * Sets m's demands to the entries of mx whose ends are both nodes of m, in
  * mx's order, and counts the others in m->n_unplaced and m->unplaced_bps.
  * An entry that names known nodes but is still refused (storage checked it
@@ -526,6 +669,7 @@ load(struct db *db, bool with_demands, struct model **mp, struct err *e)
 	    (r = db_read_revision(db, &rev, e)) != 0 ||
 	    (r = read_nodes(db, m, e)) != 0 ||
 	    (r = read_links(db, m, e)) != 0 ||
+	    (r = read_srlgs(db, m, e)) != 0 ||
 	    (r = db_read_policy(db, &m->policy, e)) != 0)
 		goto out;
 	if (with_demands && m->policy.matrix != NULL) {

@@ -1002,6 +1002,378 @@ def test_plan_diff_link_down():
         check(want in e["message"], "message %r, want %r" % (e["message"], want))
         ok200(d.get("/v1/plan/diff?from=%d" % (last - 31)), "the oldest kept plan")
 
+# ---- what-ifs and survivability sweeps (docs/api.md: What-if, Sweeps) -----
+#
+# The four-site network at the top of this file, with SRLGs: L_AB in SRLG
+# 7, L_BD in SRLGs 7 and 9.  Cost objective, headroom 1, matrix tm (A -> D,
+# 15G).  Hand derivations, from the comment at the top:
+#   - nothing failed: cost 40e9, all 15G carried.
+#   - L_AB failed (or SRLG 9, which takes L_BD): only A-C-D, 10G carried,
+#     5G unserved, cost 10e9 x 4 = 40e9, utilisation 1 on A->C and C->D.
+#     By LP duality the admission duals along A-C-D sum to 1 (the carried
+#     rate's objective coefficient), so the bottleneck shadow prices sum to 1.
+#   - SRLG 7: L_AB and L_BD down, the same as above.
+#   - node C and L_AB failed: A and D are not joined: 15G cut off, nothing
+#     carried, no bottleneck (no capacity would help).
+#   - scale 0.5 (or scale_demands A -> D x 0.5): 7.5G fit on A-B-D: cost 15e9.
+#   - a new link A-D (10G, metric 1): 10G direct at cost 1, 5G over A-B-D at
+#     cost 2: 20e9.
+#   - L_AB and L_BD at 20G: all 15G over A-B-D: 30e9.
+#   - objective balance: U = 0.75, cost 45e9 (top of the file).
+#   - headroom 0.5: 5G per route, 10G carried, cost 5e9 x 2 + 5e9 x 4 = 30e9,
+#     max utilisation 0.5.
+
+TOPO4_SRLG = json.loads(json.dumps(TOPO4))
+TOPO4_SRLG["links"][0]["srlgs"] = [7]
+TOPO4_SRLG["links"][1]["srlgs"] = [7, 9]
+
+
+def frozen(d=None):
+    """What a what-if or a refused sweep request must leave alone."""
+    d = d or D
+    h = health(d)
+    return snapshot(d) + (h["plan_revision"], d.get("/v1/plan").body, d.get("/v1/sweeps").body)
+
+
+def setup_tiny_srlg(d):
+    ok200(d.put("/v1/topology", TOPO4_SRLG), "put topology with srlgs")
+    ok200(d.put("/v1/matrices/tm", TM), "put matrix")
+    rev = ok200(d.put("/v1/policy", {"objective": "cost", "headroom": 1.0, "matrix": "tm"}),
+                "put policy")["model_revision"]
+    return d.wait_plan(rev, timeout=60)
+
+
+def whatif(d, body, what):
+    return ok200(d.request("POST", "/v1/whatif", body), "what-if " + what)
+
+
+def whatif_rejected(body, status, code, where=None, where_re=None, path="/v1/whatif",
+                    method="POST", ctype="application/json"):
+    """A bad what-if or sweep request: the error reply, and nothing changed
+    (model, plan, sweeps)."""
+    before = frozen()
+    r = D.request(method, path, body, ctype=ctype)
+    e = expect_error(r, status, code, where, where_re)
+    after = frozen()
+    check(after[0] == before[0], "%s %s changed the model revision %d -> %d"
+          % (method, path, before[0], after[0]))
+    check(after == before, "%s %s changed the stored model, the plan or the sweeps" % (method, path))
+    return e
+
+
+def test_whatif_tiny():
+    p0 = setup_tiny_srlg(D)
+    before = frozen()
+    j = whatif(D, {}, "as is")
+    near(j["plan"]["total_cost"], 40e9, "as is: cost (hand-derived)")
+    near(j["plan"]["carried_bps"], 15e9, "as is: carried")
+    check(j["scenario"]["failed_links"] == [] and j["scenario"]["added_links"] == [],
+          "as is: scenario %r" % j["scenario"])
+    check(j["model_revision"] == before[0] and j["plan_revision"] == p0["revision"],
+          "revisions %r" % {k: j[k] for k in ("model_revision", "plan_revision")})
+    near(j["compare"]["live"]["total_cost"], p0["total_cost"], "compare.live is the live plan")
+
+    for body, failed in (({"fail": {"links": ["L_AB"]}}, ["L_AB"]),
+                         ({"fail": {"srlgs": [9]}}, ["L_BD"]),
+                         ({"fail": {"srlgs": [7]}}, ["L_AB", "L_BD"])):
+        j = whatif(D, body, json.dumps(body))
+        p = j["plan"]
+        check(sorted(j["scenario"]["failed_links"]) == failed, "failed_links %r, want %r"
+              % (j["scenario"]["failed_links"], failed))
+        check(p["status"] == "partial", "%s: status %r" % (body, p["status"]))
+        near(p["carried_bps"], 10e9, "%s: carried (only A-C-D)" % body)
+        near(p["unserved_bps"], 5e9, "%s: unserved" % body)
+        near(p["total_cost"], 40e9, "%s: cost 10e9 x 4" % body)
+        near(p["max_utilization"], 1.0, "%s: max utilisation" % body)
+        ud = j["unserved_demands"]
+        check(len(ud) == 1 and j["unserved_demands_total"] == 1, "unserved_demands %r" % ud)
+        check((ud[0]["src"], ud[0]["dst"], ud[0]["priority"], ud[0]["cut_off"]) == ("A", "D", 0, False),
+              "unserved demand %r" % ud[0])
+        near(ud[0]["rate_bps"], 15e9, "rate")
+        near(ud[0]["unserved_bps"], 5e9, "demand's unserved")
+        ex = p["explain"]
+        check(ex["cut_off"] == [] and ex["cut_off_total"] == 0, "nothing cut off: %r" % ex)
+        near(ex["cut_off_bps"], 0, "cut_off_bps")
+        bn = ex["bottleneck"]
+        check(bn and all((b["link"], b["from"], b["to"]) in (("L_AC", "A", "C"), ("L_CD", "C", "D"))
+                         for b in bn), "bottleneck %r on A-C-D" % bn)
+        near(sum(b["shadow_price"] for b in bn), 1.0, "shadow prices along A-C-D sum to 1 (LP duality)")
+        by = {l["link"]: l for l in j["links"]}
+        for lid in failed:
+            near(by[lid]["a_to_b"]["load_bps"] + by[lid]["b_to_a"]["load_bps"], 0, lid + " failed, empty")
+        near(by["L_AC"]["a_to_b"]["load_bps"], 10e9, "L_AC full")
+        check(all(r["link"] not in failed for r in j["rising_links"]), "failed links do not rise")
+
+    j = whatif(D, {"fail": {"nodes": ["C"], "links": ["L_AB"]}}, "C and L_AB")
+    p = j["plan"]
+    check(sorted(j["scenario"]["failed_links"]) == ["L_AB", "L_AC", "L_CD"],
+          "a failed node takes its links: %r" % j["scenario"]["failed_links"])
+    near(p["carried_bps"], 0, "nothing carried")
+    check(p["status"] == "partial", "status %r" % p["status"])
+    ud = j["unserved_demands"]
+    check(len(ud) == 1 and ud[0]["cut_off"] is True, "cut off %r" % ud)
+    ex = p["explain"]
+    check(len(ex["cut_off"]) == 1 and ex["cut_off_total"] == 1, "explain.cut_off %r" % ex)
+    c = ex["cut_off"][0]
+    check((c["src"], c["dst"], c["priority"]) == ("A", "D", 0), "cut off demand %r" % c)
+    near(c["rate_bps"], 15e9, "cut off rate")
+    near(ex["cut_off_bps"], 15e9, "cut_off_bps")
+    check(ex["bottleneck"] == [], "no bottleneck when only cut off: %r" % ex["bottleneck"])
+
+    for body, cost in (({"scale": 0.5}, 15e9),
+                       ({"scale_demands": [{"from": ["A"], "to": ["D"], "factor": 0.5}]}, 15e9),
+                       ({"scale_demands": [{"from": ["B"], "factor": 0.5}]}, 40e9),
+                       ({"add_links": [{"id": "L_AD", "a": "A", "b": "D", "capacity_bps": 1e10,
+                                        "te_metric": 1}]}, 20e9),
+                       ({"links": [{"id": "L_AB", "capacity_bps": 2e10},
+                                   {"id": "L_BD", "capacity_bps": 2e10}]}, 30e9),
+                       ({"policy": {"objective": "balance"}}, 45e9),
+                       ({"time_limit_s": 5}, 40e9)):
+        j = whatif(D, body, json.dumps(body))
+        check(j["plan"]["status"] == "optimal", "%s: status %r" % (body, j["plan"]["status"]))
+        near(j["plan"]["total_cost"], cost, "%s: cost (hand-derived)" % body)
+        check("explain" not in j["plan"] or not j["plan"]["explain"].get("cut_off"),
+              "%s: nothing cut off" % body)
+        if "add_links" in body:
+            check(j["scenario"]["added_links"] == ["L_AD"], "added_links %r" % j["scenario"])
+            check("L_AD" in [l["link"] for l in j["links"]], "the added link has loads")
+    j = whatif(D, {"policy": {"objective": "balance"}}, "balance")
+    near(j["plan"]["max_utilization"], 0.75, "balance: U (cut bound 15/20)")
+    j = whatif(D, {"policy": {"headroom": 0.5}}, "headroom 0.5")
+    near(j["plan"]["carried_bps"], 10e9, "headroom 0.5: carried")
+    near(j["plan"]["total_cost"], 30e9, "headroom 0.5: cost")
+    near(j["plan"]["max_utilization"], 0.5, "headroom 0.5: max utilisation")
+    check(frozen() == before, "what-ifs changed the model, the plan or the sweeps")
+
+
+def test_whatif_bad_input():
+    setup_tiny_srlg(D)
+    e = whatif_rejected({"fail": {"links": ["L_AB", "NOPE"]}}, 400, "invalid", where_re=r"fail\.links(\[1\])?")
+    check("NOPE" in e["message"], "message names the link: %r" % e["message"])
+    whatif_rejected({"fail": {"nodes": ["Z"]}}, 400, "invalid", where_re=r"fail\.nodes(\[0\])?")
+    # SRLG 12 exists in no link; -1 and 2^32 are outside 0..4294967295.
+    whatif_rejected({"fail": {"srlgs": [7, 12]}}, 400, "invalid", where_re=r"fail\.srlgs(\[1\])?")
+    whatif_rejected({"fail": {"srlgs": [-1]}}, 400, "invalid", where_re=r"fail\.srlgs(\[0\])?")
+    whatif_rejected({"fail": {"srlgs": [4294967296]}}, 400, "invalid", where_re=r"fail\.srlgs(\[0\])?")
+    whatif_rejected({"fail": {"links": "L_AB"}}, 400, "invalid", "fail.links")
+    whatif_rejected({"scale": -1}, 400, "invalid", "scale")
+    whatif_rejected({"scale": "2"}, 400, "invalid", "scale")
+    # JSON has no infinity: 1e999 overflows a double and is not JSON here.
+    whatif_rejected('{"scale": 1e999}', 400, "invalid", where_re=r"1:\d+")
+    whatif_rejected({"scale_demands": [{"from": ["A"], "to": ["D"], "factor": -0.5}]}, 400, "invalid",
+                    "scale_demands[0].factor")
+    whatif_rejected({"scale_demands": [{"from": ["A"], "to": ["D"]}]}, 400, "invalid",
+                    where_re=r"scale_demands\[0\](\.factor)?")
+    whatif_rejected({"scale_demands": [{"from": ["Q"], "factor": 1}]}, 400, "invalid",
+                    where_re=r"scale_demands\[0\]\.from(\[0\])?")
+    whatif_rejected({"matrix": "nope"}, 404, "not_found", "matrix")
+    whatif_rejected({"links": [{"id": "NOPE", "capacity_bps": 1e9}]}, 400, "invalid", "links[0].id")
+    whatif_rejected({"links": [{"id": "L_AB", "capacity_bps": -1}]}, 400, "invalid",
+                    "links[0].capacity_bps")
+    whatif_rejected({"links": [{"id": "L_AB", "state": "sideways"}]}, 400, "invalid", "links[0].state")
+    whatif_rejected({"add_links": [{"id": "L_AB", "a": "A", "b": "D", "capacity_bps": 1e9,
+                                    "te_metric": 1}]}, 400, "invalid", "add_links[0].id")
+    whatif_rejected({"add_links": [{"id": "L_new", "a": "A", "b": "Z", "capacity_bps": 1e9,
+                                    "te_metric": 1}]}, 400, "invalid", "add_links[0].b")
+    whatif_rejected({"policy": {"headroom": 1.5}}, 400, "invalid", "policy.headroom")
+    whatif_rejected({"policy": {"matrix": "tm"}}, 400, "invalid", "policy.matrix")
+    whatif_rejected({"time_limit_s": 0}, 400, "invalid", "time_limit_s")
+    whatif_rejected({"time_limit_s": 31}, 400, "invalid", "time_limit_s")   # default limit 30
+    whatif_rejected({"colour": "blue"}, 400, "invalid", "colour")
+    whatif_rejected(json.dumps({}), 415, "unsupported_media_type", "Content-Type", ctype="text/plain")
+    # Sweeps.
+    whatif_rejected({"kind": "bogus"}, 400, "invalid", "kind", path="/v1/sweeps")
+    whatif_rejected({}, 400, "invalid", "kind", path="/v1/sweeps")
+    whatif_rejected({"kind": "links", "scale": -1}, 400, "invalid", "scale", path="/v1/sweeps")
+    whatif_rejected(None, 404, "not_found", path="/v1/sweeps/999", method="GET")
+    whatif_rejected(None, 404, "not_found", path="/v1/sweeps/999/results.csv", method="GET")
+    whatif_rejected({}, 404, "not_found", path="/v1/sweeps/999/cancel")
+    whatif_rejected(None, 404, "not_found", path="/v1/sweeps/999", method="DELETE")
+
+
+def sweeps(d):
+    return ok200(d.get("/v1/sweeps"), "list sweeps")["sweeps"]
+
+
+def wait_sweep(d, sid, until, timeout=90.0, what="sweep"):
+    """Polls GET /v1/sweeps/ID until until(sweep) holds; bounded."""
+    end = time.time() + timeout
+    while time.time() < end:
+        sw = ok200(d.get("/v1/sweeps/%d" % sid), "get sweep")
+        if until(sw):
+            return sw
+        time.sleep(0.05)
+    raise Fail("%s %d: condition not reached in %.0f s: %r" % (what, sid, timeout, sw))
+
+
+def import_germany50(d, objective="balance"):
+    path = os.path.join(ROOT, "tests", "data", "sndlib", "germany50.txt")
+    with open(path, "rb") as f:
+        ok200(d.request("POST", "/v1/import?format=sndlib&matrix=g", f.read(), ctype="text/plain"),
+              "import germany50")
+    rev = ok200(d.put("/v1/policy", {"objective": objective, "headroom": 1.0, "matrix": "g"}),
+                "policy")["model_revision"]
+    return d.wait_plan(rev, timeout=90, verify=False)
+
+
+def start_sweep(d, body, total):
+    r = d.request("POST", "/v1/sweeps", body)
+    check(r.status == 202, "POST /v1/sweeps %r: status %d %r" % (body, r.status, r.body[:300]))
+    j = r.json()
+    check(j["total"] == total, "total %r, want %d" % (j["total"], total))
+    check(j["href"] == "/v1/sweeps/%d" % j["id"], "href %r" % j)
+    return j["id"]
+
+
+def test_whatif_config_defaults():
+    # The defaults named with the feature: workers 2, whatif_queue 2,
+    # whatif_time_limit_s 30, sweep_max_scenarios 5000.
+    import subprocess
+    weftd = os.environ.get("WEFTD", os.path.join(ROOT, "build", "weftd"))
+    out = subprocess.run([weftd, "-T"], capture_output=True, text=True, timeout=10)
+    check(out.returncode == 0, "weftd -T: %r" % out.stderr)
+    eff = dict(l.split(" ", 1) for l in out.stdout.splitlines())
+    for k, v in (("workers", "2"), ("whatif_queue", "2"), ("whatif_time_limit_s", "30"),
+                 ("sweep_max_scenarios", "5000")):
+        check(eff.get(k) == v, "%s %r, want %r" % (k, eff.get(k), v))
+
+
+# Six sites on a ring, six links: link-pairs makes 6 x 5 / 2 = 15 scenarios.
+RING6 = {"nodes": [{"id": "R%d" % i} for i in range(6)],
+         "links": [{"id": "ring%d" % i, "a": "R%d" % i, "b": "R%d" % ((i + 1) % 6),
+                    "capacity_bps": 1e10, "te_metric": 1} for i in range(6)]}
+
+
+def test_sweep_over_the_limit():
+    own_daemon_needed()
+    with Daemon(extra_args=["--sweep-max-scenarios", "10"]) as d:
+        ok200(d.put("/v1/topology", RING6), "ring")
+        ok200(d.put("/v1/matrices/r", {"demands": [{"src": "R0", "dst": "R3", "rate_bps": 1e9}]}), "matrix")
+        rev = ok200(d.put("/v1/policy", {"objective": "cost", "headroom": 1.0, "matrix": "r"}),
+                    "policy")["model_revision"]
+        d.wait_plan(rev, timeout=60)
+        before = frozen(d)
+        r = d.request("POST", "/v1/sweeps", {"kind": "link-pairs"})
+        expect_error(r, 400, "invalid")
+        check(sweeps(d) == [], "a refused sweep is not listed: %r" % sweeps(d))
+        check(frozen(d) == before, "a refused sweep changed the model or the plan")
+        # Control: 6 link scenarios are within the limit.
+        sid = start_sweep(d, {"kind": "links"}, 6)
+        sw = wait_sweep(d, sid, lambda s: s["state"] != "running", 60)
+        check(sw["state"] == "done" and sw["done"] == 6 and len(sw["results"]) == 6, "links sweep %r" % sw)
+        # Ring: one link down leaves the other way round, 1G always fits.
+        for x in sw["results"]:
+            near(x["carried_bps"], 1e9, "carried with %r failed" % x["fail"])
+
+
+def test_sweep_cancel_and_conflict():
+    own_daemon_needed()
+    with Daemon(extra_args=["--workers", "1", "--max-body", str(MAX_BODY)]) as d:
+        import_germany50(d)
+        sid = start_sweep(d, {"kind": "link-pairs"}, 88 * 87 // 2)
+        r = d.request("POST", "/v1/sweeps", {"kind": "links"})
+        e = expect_error(r, 409, "conflict")
+        check(str(sid) in e["message"], "409 names the running sweep %d: %r" % (sid, e["message"]))
+        r = d.request("DELETE", "/v1/sweeps/%d" % sid)
+        expect_error(r, 409, "conflict")
+        check(len(sweeps(d)) == 1, "one sweep listed")
+        r = d.request("POST", "/v1/sweeps/%d/cancel" % sid, {})
+        j = ok200(r, "cancel")
+        check(j["state"] == "cancelled", "state %r" % j["state"])
+        check(j["done"] < j["total"] == 3828, "done %r of %r" % (j["done"], j["total"]))
+        sw = ok200(d.get("/v1/sweeps/%d" % sid), "get cancelled")
+        check(sw["state"] == "cancelled" and sw["done"] == len(sw["results"]) < 3828,
+              "cancelled sweep %r" % {k: sw.get(k) for k in ("state", "done", "total")})
+        check(isinstance(sw.get("report"), dict), "a cancelled sweep has a report")
+        time.sleep(0.5)
+        sw2 = ok200(d.get("/v1/sweeps/%d" % sid), "get cancelled again")
+        check(sw2["done"] == sw["done"] and sw2["state"] == "cancelled", "nothing runs after cancel")
+        expect_error(d.request("POST", "/v1/sweeps/%d/cancel" % sid, {}), 409, "conflict")
+        r = d.request("DELETE", "/v1/sweeps/%d" % sid)
+        check(r.status in (200, 204), "delete: %d %r" % (r.status, r.body[:200]))
+        expect_error(d.get("/v1/sweeps/%d" % sid), 404, "not_found")
+        check(sweeps(d) == [], "deleted sweep not listed")
+
+
+def test_whatif_busy_503():
+    own_daemon_needed()
+    with Daemon(extra_args=["--workers", "1", "--whatif-queue", "0", "--max-body", str(MAX_BODY)]) as d:
+        import_germany50(d)
+        sid = start_sweep(d, {"kind": "link-pairs"}, 3828)
+        got = []
+        for _ in range(5):
+            r = d.request("POST", "/v1/whatif", {"fail": {"links": ["L1"]}})
+            got.append(r.status)
+            if r.status == 503:
+                break
+        check(got[-1] == 503, "what-ifs while the one worker runs a sweep: %r" % got)
+        expect_error(r, 503, "busy")
+        ra = r.headers.get("Retry-After", "")
+        check(ra.isdigit() and int(ra) >= 1, "Retry-After %r" % ra)
+        ok200(d.request("POST", "/v1/sweeps/%d/cancel" % sid, {}), "cancel")
+        wait_sweep(d, sid, lambda s: s["state"] != "running", 60)
+        # Control: with the worker free, the same what-if runs.
+        ok200(d.request("POST", "/v1/whatif", {"fail": {"links": ["L1"]}}), "what-if after the sweep")
+
+
+def respawn(d, sig, extra_args=()):
+    """Stops d's weftd with sig and starts a new one on the same database."""
+    import subprocess
+    from weftd import free_port
+    d.proc.send_signal(sig)
+    d.proc.wait(timeout=30)
+    d.log.close()
+    d.port = free_port()
+    d.base = "http://127.0.0.1:%d" % d.port
+    d.log = open(d.log_path, "ab")
+    weftd = os.environ.get("WEFTD", os.path.join(ROOT, "build", "weftd"))
+    d.proc = subprocess.Popen([weftd, "--db", d.db, "--listen", "127.0.0.1:%d" % d.port,
+                               "--debounce-ms", "20"] + list(extra_args),
+                              stdout=d.log, stderr=subprocess.STDOUT)
+    d.wait_ready()
+
+
+def test_sweep_survives_restart():
+    own_daemon_needed()
+    args = ["--workers", "1", "--max-body", str(MAX_BODY)]
+    with Daemon(extra_args=args) as d:
+        import_germany50(d)
+        s1 = start_sweep(d, {"kind": "links"}, 88)
+        done1 = wait_sweep(d, s1, lambda s: s["state"] != "running", 90)
+        check(done1["state"] == "done" and len(done1["results"]) == 88, "links sweep %r" % done1["state"])
+        s2 = start_sweep(d, {"kind": "link-pairs"}, 3828)
+        seen = wait_sweep(d, s2, lambda s: s["done"] >= 2, 60)
+        check(seen["state"] == "running", "still running %r" % seen["state"])
+        respawn(d, signal.SIGKILL, args)
+        sw = ok200(d.get("/v1/sweeps/%d" % s2), "sweep after SIGKILL")
+        check(sw["state"] == "interrupted", "state %r, want interrupted" % sw["state"])
+        check(sw["done"] == len(sw["results"]), "done %r, %d results" % (sw["done"], len(sw["results"])))
+        check(sw["done"] >= seen["done"], "results seen before the kill are kept: %d < %d"
+              % (sw["done"], seen["done"]))
+        check(sw["done"] < 3828, "done %r" % sw["done"])
+        idx = [x["index"] for x in sw["results"]]
+        check(len(set(idx)) == len(idx) and all(0 <= i < 3828 for i in idx), "indices %r" % idx[:10])
+        old = {x["index"]: x for x in seen["results"]}
+        for x in sw["results"]:
+            if x["index"] in old:
+                check(x == old[x["index"]], "result %d changed over the restart" % x["index"])
+        d1 = ok200(d.get("/v1/sweeps/%d" % s1), "finished sweep after SIGKILL")
+        check(d1["state"] == "done" and d1["results"] == done1["results"],
+              "finished sweep's results kept over the restart")
+        check(d1.get("report") == done1.get("report"), "finished sweep's report kept")
+        lst = sweeps(d)
+        check([x["id"] for x in lst] == [s2, s1], "listed newest first: %r" % lst)
+        check([x["state"] for x in lst] == ["interrupted", "done"], "states %r" % lst)
+        # An interrupted sweep does not block the next one; a clean stop
+        # (SIGTERM) while one runs leaves it interrupted too.
+        s3 = start_sweep(d, {"kind": "link-pairs"}, 3828)
+        wait_sweep(d, s3, lambda s: s["done"] >= 1, 60)
+        respawn(d, signal.SIGTERM, args)
+        sw = ok200(d.get("/v1/sweeps/%d" % s3), "sweep after SIGTERM")
+        check(sw["state"] == "interrupted", "state after SIGTERM %r" % sw["state"])
+        check(sw["done"] == len(sw["results"]) >= 1, "results kept after SIGTERM")
+
+
 # ---------------------------------------------------------------------------
 
 def alarm(signum, frame):

@@ -27,6 +27,9 @@ publishes with references computed here, outside the project:
   6. every plan fetched passes tests/lib/plancheck.py.
   7. at the end, tests/reference/congestion.py (its own daemon): the
      congestion objective against HiGHS on three instances.
+  8. then tests/reference/whatif.py (its own daemon): what-if scenarios
+     and survivability sweeps against HiGHS and networkx on five
+     instances.
 
 The instance files are read again by tests/lib/sndlib.py, not by weft's
 parser.  Relative tolerance 1e-6 throughout unless a check says otherwise.
@@ -550,6 +553,24 @@ def run_congestion(rep):
             note=notes.get(r.returncode, last) if r.returncode else last)
 
 
+def run_whatif(rep):
+    """What-ifs and sweeps, checked by their own script with its own
+    daemon (tests/reference/whatif.py); one row for its outcome."""
+    import subprocess
+    print("== what-ifs and sweeps (tests/reference/whatif.py)", flush=True)
+    t0 = time.time()
+    r = subprocess.run([sys.executable, os.path.join(HERE, "whatif.py")],
+                       stdout=subprocess.PIPE, stderr=subprocess.STDOUT, timeout=600)
+    text = r.stdout.decode("utf-8", "replace")
+    print(text, end="", flush=True)
+    notes = {1: "a check failed", 2: "weftd could not run",
+             3: "weftd does not serve POST /v1/whatif or link SRLGs"}
+    last = text.strip().splitlines()[-1] if text.strip() else ""
+    rep.add("whatif", "-", "whatif.py exit status", r.returncode, 0, r.returncode == 0,
+            solve_ms=(time.time() - t0) * 1000.0,
+            note=notes.get(r.returncode, last) if r.returncode else last)
+
+
 def main(argv):
     quick = "--quick" in argv
     names = [a for a in argv if not a.startswith("--")]
@@ -581,6 +602,7 @@ def main(argv):
     finally:
         d.stop()
     run_congestion(rep)
+    run_whatif(rep)
     print()
     print(rep.table())
     bad = rep.failed()

@@ -395,7 +395,7 @@ test_good_inputs(void)
 	s = m != NULL ? codec_link_encode(m, 1, &len) : NULL;
 	ASSERT_STR_EQ(s, "{\"id\":\"L2\",\"a\":\"B\",\"b\":\"C\","
 	    "\"capacity_bps\":2500000000.0,\"te_metric\":1.5,"
-	    "\"state\":\"down\"}");
+	    "\"state\":\"down\",\"srlgs\":[]}");
 	free(s);
 	TEST_DONE();
 

@@ -13,6 +13,7 @@
 #include <sys/stat.h>
 
 #include <dirent.h>
+#include <stdint.h>
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
@@ -153,6 +154,25 @@ matrix_day(void)
 	return mx;
 }
 
+/* Checks that link b is in the SRLGs of a, both ascending. */
+static void
+assert_same_srlgs(const struct link *b, const struct link *a)
+{
+	size_t k;
+
+	ASSERT_INT_EQ(b->n_srlgs, a->n_srlgs);
+	for (k = 0; k < a->n_srlgs && k < b->n_srlgs; k++)
+		ASSERT_INT_EQ(b->srlgs[k], a->srlgs[k]);
+}
+
+/* Sets link i of m to the n SRLGs in s. */
+static void
+set_srlgs(struct model *m, size_t i, const uint32_t *s, size_t n)
+{
+	if (model_set_link_srlgs(m, i, s, n, "links", NULL) != 0)
+		abort();
+}
+
 /* Checks b against a field by field, in order. */
 static void
 assert_same_topology(const struct model *a, const struct model *b)
@@ -184,6 +204,7 @@ assert_same_topology(const struct model *a, const struct model *b)
 		ASSERT_DBL_NEAR(b->links[i].te_metric, a->links[i].te_metric,
 		    0);
 		ASSERT_INT_EQ(b->links[i].up, a->links[i].up);
+		assert_same_srlgs(&b->links[i], &a->links[i]);
 	}
 }
 
@@ -237,7 +258,8 @@ test_new_file(void)
 	ASSERT_SHELL(path, "PRAGMA user_version;", want);
 	ASSERT_SHELL(path, "SELECT group_concat(name, ' ') FROM (SELECT name "
 	    "FROM sqlite_master WHERE type = 'table' ORDER BY name);",
-	    "demands links matrices meta nodes plan_history policy");
+	    "demands link_srlg links matrices meta nodes plan_history policy "
+	    "sqlite_sequence sweep_results sweeps");
 	ASSERT_SHELL(path, "PRAGMA integrity_check;", "ok");
 	db_close(db);
 	TEST_DONE();
@@ -1056,6 +1078,242 @@ test_two_connections(void)
 	TEST_DONE();
 }
 
+/* ---- SRLGs ---- */
+
+/*
+ * topo_four() with l-zm in SRLGs 30, 7 and 2^32 - 1 (given out of order,
+ * 7 twice) and l-ma in SRLG 7; l-ab in none.  Stored ascending and once
+ * each: l-ma:7, l-zm:7, l-zm:30, l-zm:4294967295.
+ */
+static struct model *
+topo_four_srlgs(void)
+{
+	static const uint32_t zm[] = { 30, 7, 4294967295U, 7 }, ma[] = { 7 };
+	struct model *m = topo_four();
+
+	set_srlgs(m, 0, zm, 4);
+	set_srlgs(m, 2, ma, 1);
+	return m;
+}
+
+static void
+test_srlgs_round_trip(void)
+{
+	struct model *topo = topo_four_srlgs(), *three = topo_three();
+	struct model *m = NULL;
+	struct db *db = NULL;
+	struct err e = { 0 };
+	char path[128];
+	int64_t rev;
+
+	TEST_START("SRLGs survive a topology put, a load and a reopen");
+	new_path(path, sizeof(path));
+	ASSERT_INT_EQ(db_open(path, &db, &e), 0);
+	ASSERT_INT_EQ(db_put_topology(db, topo, &rev, &e), 0);
+	ASSERT_INT_EQ(rev, 1);
+	ASSERT_SHELL(path, "SELECT group_concat(link || ':' || srlg) FROM "
+	    "(SELECT * FROM link_srlg ORDER BY link, srlg);",
+	    "l-ma:7,l-zm:7,l-zm:30,l-zm:4294967295");
+	ASSERT_INT_EQ(db_load_model(db, &m, &e), 0);
+	if (m != NULL) {
+		assert_same_topology(topo, m);
+		ASSERT_INT_EQ(m->links[0].n_srlgs, 3);
+		ASSERT_TRUE(link_in_srlg(&m->links[0], 4294967295U));
+		ASSERT_TRUE(link_in_srlg(&m->links[2], 7));
+		ASSERT_INT_EQ(m->links[1].n_srlgs, 0);
+		ASSERT_TRUE(m->links[1].srlgs == NULL);
+	}
+	model_free(m);
+	m = NULL;
+	db_close(db);
+	db = NULL;
+	ASSERT_INT_EQ(db_open(path, &db, &e), 0);
+	ASSERT_INT_EQ(db_load_topology(db, &m, &e), 0);
+	if (m != NULL)
+		assert_same_topology(topo, m);
+	model_free(m);
+	m = NULL;
+
+	/* A topology without SRLGs replaces them all. */
+	ASSERT_INT_EQ(db_put_topology(db, three, &rev, &e), 0);
+	ASSERT_INT_EQ(rev, 2);
+	ASSERT_SHELL(path, "SELECT count(*) FROM link_srlg;", "0");
+	ASSERT_INT_EQ(db_put_topology(db, topo, &rev, &e), 0);
+	ASSERT_SHELL(path, "SELECT count(*) FROM link_srlg;", "4");
+	ASSERT_SHELL(path, "PRAGMA foreign_key_check;", "");
+	ASSERT_INT_EQ(e.code, 0);
+	model_free(topo);
+	model_free(three);
+	db_close(db);
+	TEST_DONE();
+}
+
+static void
+test_srlgs_network(void)
+{
+	static const uint32_t ab[] = { 12, 4 };
+	struct model *net = topo_three(), *m = NULL;
+	struct db *db = NULL;
+	struct err e = { 0 };
+	char path[128];
+	int64_t rev;
+
+	TEST_START("an import (put_network) stores its SRLGs and drops the "
+	    "old ones");
+	new_path(path, sizeof(path));
+	ASSERT_INT_EQ(db_open(path, &db, &e), 0);
+	m = topo_four_srlgs();
+	ASSERT_INT_EQ(db_put_topology(db, m, &rev, &e), 0);
+	model_free(m);
+	m = NULL;
+	set_srlgs(net, 0, ab, 2);
+	model_add_demand(net, "zeta", "alder", 4e8, 1, "demands", NULL);
+	ASSERT_INT_EQ(db_put_network(db, net, "day", &rev, &e), 0);
+	ASSERT_INT_EQ(rev, 2);
+	ASSERT_SHELL(path, "SELECT group_concat(link || ':' || srlg) FROM "
+	    "(SELECT * FROM link_srlg ORDER BY link, srlg);",
+	    "l-ab:4,l-ab:12");
+	ASSERT_INT_EQ(db_load_topology(db, &m, &e), 0);
+	if (m != NULL)
+		assert_same_topology(net, m);
+	model_free(m);
+	model_free(net);
+	db_close(db);
+	TEST_DONE();
+}
+
+static void
+test_srlgs_patch(void)
+{
+	struct link_patch lp;
+	struct model *topo = topo_four(), *m = NULL;
+	struct db *db = NULL;
+	struct err e = { 0 };
+	char path[128];
+	int64_t rev = 99;
+
+	TEST_START("PATCH replaces a link's SRLGs; other patches keep them");
+	db = open_stocked(path, sizeof(path));
+	ASSERT_TRUE(db != NULL);
+	memset(&lp, 0, sizeof(lp));
+	lp.has_srlgs = true;
+	lp.srlgs[0] = 5;
+	lp.srlgs[1] = 1;
+	lp.srlgs[2] = 5;
+	lp.n_srlgs = 3;
+	ASSERT_INT_EQ(db_patch_link(db, "l-ab", &lp, &rev, &e), 0);
+	ASSERT_INT_EQ(rev, 3);
+	ASSERT_SHELL(path, "SELECT group_concat(link || ':' || srlg) FROM "
+	    "(SELECT * FROM link_srlg ORDER BY link, srlg);", "l-ab:1,l-ab:5");
+	/* The rest of the link is as it was. */
+	ASSERT_SHELL(path, "SELECT up, capacity_bps, te_metric FROM links "
+	    "WHERE id = 'l-ab';", "0|1000000000.0|5.0");
+
+	/* A patch without srlgs keeps them. */
+	memset(&lp, 0, sizeof(lp));
+	lp.has_up = true;
+	lp.up = true;
+	ASSERT_INT_EQ(db_patch_link(db, "l-ab", &lp, &rev, &e), 0);
+	ASSERT_INT_EQ(rev, 4);
+	ASSERT_INT_EQ(db_load_model(db, &m, &e), 0);
+	if (m != NULL && m->n_links == 3) {
+		ASSERT_INT_EQ(m->links[1].n_srlgs, 2);
+		ASSERT_TRUE(link_in_srlg(&m->links[1], 1) &&
+		    link_in_srlg(&m->links[1], 5));
+		ASSERT_INT_EQ(m->links[1].up, 1);
+		ASSERT_INT_EQ(m->links[0].n_srlgs, 0);
+	}
+	model_free(m);
+	m = NULL;
+
+	/* A new set replaces the old one whole. */
+	memset(&lp, 0, sizeof(lp));
+	lp.has_srlgs = true;
+	lp.srlgs[0] = 4294967295U;
+	lp.n_srlgs = 1;
+	ASSERT_INT_EQ(db_patch_link(db, "l-ab", &lp, &rev, &e), 0);
+	ASSERT_SHELL(path, "SELECT group_concat(link || ':' || srlg) FROM "
+	    "link_srlg;", "l-ab:4294967295");
+
+	/* Refusals change nothing. */
+	lp.n_srlgs = MODEL_SRLG_MAX + 1;
+	ASSERT_INT_EQ(db_patch_link(db, "l-ab", &lp, &rev, &e), ERR_INVALID);
+	ASSERT_STR_EQ(e.where, "srlgs");
+	err_clear(&e);
+	lp.n_srlgs = 1;
+	ASSERT_INT_EQ(db_patch_link(db, "l-none", &lp, &rev, &e),
+	    ERR_NOTFOUND);
+	ASSERT_STR_EQ(e.where, "id");
+	ASSERT_INT_EQ(revision(db), 5);
+	ASSERT_SHELL(path, "SELECT count(*) FROM link_srlg;", "1");
+
+	/* An empty set takes the link out of every SRLG. */
+	err_clear(&e);
+	lp.n_srlgs = 0;
+	ASSERT_INT_EQ(db_patch_link(db, "l-ab", &lp, &rev, &e), 0);
+	ASSERT_INT_EQ(rev, 6);
+	ASSERT_SHELL(path, "SELECT count(*) FROM link_srlg;", "0");
+
+	/* A topology with too many SRLGs on a link (made by hand: the model
+	   refuses it) is refused at links[i].srlgs. */
+	topo->links[2].srlgs = xcalloc(MODEL_SRLG_MAX + 1, sizeof(uint32_t));
+	topo->links[2].n_srlgs = MODEL_SRLG_MAX + 1;
+	ASSERT_INT_EQ(db_put_topology(db, topo, &rev, &e), ERR_INVALID);
+	ASSERT_STR_EQ(e.where, "links[2].srlgs");
+	ASSERT_INT_EQ(revision(db), 6);
+	model_free(topo);
+	db_close(db);
+	TEST_DONE();
+}
+
+/*
+ * A database at schema version 2 (the first two migrations, as compiled
+ * in, run by the sqlite3 shell) with one link gains the SRLG and sweep
+ * tables at open and keeps its data; the link is in no SRLG.
+ */
+static void
+test_migrate_from_2(void)
+{
+	struct model *m = NULL;
+	struct db *db = NULL;
+	struct err e = { 0 };
+	char path[128], *sql, *out;
+	char want[32];
+
+	TEST_START("migrates a schema 2 database: links keep their data, "
+	    "in no SRLG");
+	new_path(path, sizeof(path));
+	sql = xasprintf("%s%sPRAGMA user_version = 2;\n"
+	    "INSERT INTO nodes (id, ordinal) VALUES ('p', 0), ('q', 1);\n"
+	    "INSERT INTO links (id, ordinal, a, b, capacity_bps, te_metric, "
+	    "up) VALUES ('pq', 0, 'p', 'q', 1e9, 3, 1);\n"
+	    "UPDATE meta SET value = 4 WHERE key = 'model_revision';\n",
+	    schema_migrations[0], schema_migrations[1]);
+	out = shell(path, sql);
+	ASSERT_STR_EQ(out, "");
+	free(out);
+	free(sql);
+	ASSERT_SHELL(path, "PRAGMA user_version;", "2");
+	ASSERT_INT_EQ(db_open(path, &db, &e), 0);
+	snprintf(want, sizeof(want), "%zu", schema_migrations_n);
+	ASSERT_SHELL(path, "PRAGMA user_version;", want);
+	ASSERT_INT_EQ(revision(db), 4);
+	ASSERT_INT_EQ(db_load_topology(db, &m, &e), 0);
+	if (m != NULL) {
+		ASSERT_INT_EQ(m->n_links, 1);
+		if (m->n_links == 1) {
+			ASSERT_STR_EQ(m->links[0].id, "pq");
+			ASSERT_DBL_NEAR(m->links[0].te_metric, 3, 0);
+			ASSERT_INT_EQ(m->links[0].n_srlgs, 0);
+		}
+	}
+	ASSERT_SHELL(path, "SELECT count(*) FROM sweeps;", "0");
+	ASSERT_SHELL(path, "PRAGMA integrity_check;", "ok");
+	model_free(m);
+	db_close(db);
+	TEST_DONE();
+}
+
 int
 main(void)
 {
@@ -1083,6 +1341,10 @@ main(void)
 	test_plan_history();
 	test_reopen();
 	test_two_connections();
+	test_srlgs_round_trip();
+	test_srlgs_network();
+	test_srlgs_patch();
+	test_migrate_from_2();
 	rm_tmpdir();
 	return tap_finish();
 }

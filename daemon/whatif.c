@@ -1,0 +1,98 @@
+/* SPDX-License-Identifier: GPL-3.0-or-later */
+/* What-ifs on the worker pool. */
+
+#include <stdlib.h>
+
+#include "whatif.h"
+#include "service.h"
+#include "workers.h"
+#include "base/log.h"
+#include "base/xalloc.h"
+#include "engine/engine.h"
+
+struct whatif_task {
+	struct task t;		/* first: the pool sees this */
+	struct whatif_result *res;
+	double time_limit_s;
+	whatif_done_fn *done;
+	void *ctx;
+};
+
+int
+whatif_solve(const struct engine_seed *sd, const struct model *m,
+    double time_limit_s, struct plan **pp, struct err *e)
+{
+	struct engine_state *st;
+	struct solve_opts o;
+	int r;
+
+	solve_opts_default(&o);
+	o.time_limit_s = time_limit_s;
+	if (m->policy.formulation != FORM_PATH)
+		return engine_solve(m, &o, pp, e);
+	st = engine_state_from_seed(sd);
+	r = engine_solve_warm(&st, m, &o, pp, e);
+	engine_state_free(st);
+	return r;
+}
+
+static void
+run(struct task *t, bool cancelled)
+{
+	struct whatif_task *wt = (struct whatif_task *)t;
+	struct whatif_result *res = wt->res;
+
+	if (cancelled) {
+		res->r = err_set(&res->e, ERR_BUSY, NULL,
+		    "the daemon is stopping");
+	} else {
+		res->r = whatif_solve(res->box->sd, res->m, wt->time_limit_s,
+		    &res->p, &res->e);
+		if (res->r != 0)
+			log_warn("what-if failed code=%s msg=\"%s\"",
+			    err_word(res->r), res->e.msg);
+	}
+	wt->done(wt->ctx, res);
+	free(wt);
+}
+
+int
+whatif_submit(struct service *svc, struct seed_box *box, struct model *m,
+    size_t *failed, size_t n_failed, double time_limit_s,
+    whatif_done_fn *done, void *ctx, struct err *e)
+{
+	struct whatif_task *wt = xcalloc(1, sizeof(*wt));
+	struct whatif_result *res = xcalloc(1, sizeof(*res));
+	struct workers *w = service_workers(svc);
+	int r;
+
+	res->box = box;
+	res->m = m;
+	res->failed = failed;
+	res->n_failed = n_failed;
+	wt->t.run = run;
+	wt->res = res;
+	wt->time_limit_s = time_limit_s;
+	wt->done = done;
+	wt->ctx = ctx;
+	r = w != NULL ? workers_submit(w, &wt->t, TASK_WHATIF) : ERR_BUSY;
+	if (r != 0) {
+		whatif_result_free(res);
+		free(wt);
+		return err_set(e, ERR_BUSY, NULL, "every worker is busy; "
+		    "try again shortly");
+	}
+	return 0;
+}
+
+void
+whatif_result_free(struct whatif_result *res)
+{
+	if (res == NULL)
+		return;
+	service_seed_unref(res->box);
+	model_free(res->m);
+	plan_free(res->p);
+	free(res->failed);
+	free(res);
+}
