@@ -23,6 +23,7 @@
 #include <jansson.h>
 
 #include "codec_model.h"
+#include "codec_strict.h"
 #include "codec_json.h"
 #include "../daemon/base/err.h"
 #include "../daemon/base/xalloc.h"
@@ -31,168 +32,7 @@
 
 /* ---- parsing and member access ------------------------------------ */
 
-/*
- * Scans text for [ and { nesting outside strings.  Returns 0 or
- * ERR_INVALID with where "line:col" of the bracket that goes too deep.
- */
-static int
-check_depth(const char *text, size_t len, struct err *e)
-{
-	size_t i, line = 1, col = 0;
-	int depth = 0;
-	bool in_str = false, esc = false;
-
-	for (i = 0; i < len; i++) {
-		col++;
-		if (text[i] == '\n') {
-			line++;
-			col = 0;
-		}
-		if (in_str) {
-			if (esc)
-				esc = false;
-			else if (text[i] == '\\')
-				esc = true;
-			else if (text[i] == '"')
-				in_str = false;
-			continue;
-		}
-		switch (text[i]) {
-		case '"':
-			in_str = true;
-			break;
-		case '[':
-		case '{':
-			if (++depth > CODEC_DEPTH_MAX) {
-				char w[48];
-
-				snprintf(w, sizeof(w), "%zu:%zu", line, col);
-				return err_set(e, ERR_INVALID, w, "JSON nested "
-				    "deeper than %d levels", CODEC_DEPTH_MAX);
-			}
-			break;
-		case ']':
-		case '}':
-			depth--;
-			break;
-		}
-	}
-	return 0;
-}
-
-/*
- * Parses text as one JSON object.  Returns 0 with *jp (json_decref) or
- * ERR_INVALID with where "line:col" (not JSON) or "" (not an object).
- */
-static int
-parse(const char *text, size_t len, json_t **jp, struct err *e)
-{
-	json_error_t je;
-	json_t *j;
-	char w[48];
-	int r;
-
-	*jp = NULL;
-	if (text == NULL || len == 0)
-		return err_set(e, ERR_INVALID, "", "the body is empty; a JSON "
-		    "object is expected");
-	if ((r = check_depth(text, len, e)) != 0)
-		return r;
-	j = json_loadb(text, len, JSON_REJECT_DUPLICATES, &je);
-	if (j == NULL) {
-		snprintf(w, sizeof(w), "%d:%d", je.line, je.column);
-		return err_set(e, ERR_INVALID, w, "not valid JSON: %s",
-		    je.text);
-	}
-	if (!json_is_object(j)) {
-		json_decref(j);
-		return err_set(e, ERR_INVALID, "", "a JSON object is expected");
-	}
-	*jp = j;
-	return 0;
-}
-
-/* Writes "base.key" (or "key" when base is "") into w, cut to fit n. */
-static const char *
-path(char *w, size_t n, const char *base, const char *key)
-{
-	const char *parts[3] = { base, base[0] != '\0' ? "." : "", key };
-	const char *s;
-	size_t i = 0, k;
-
-	for (k = 0; k < 3; k++)
-		for (s = parts[k]; *s != '\0' && i + 1 < n; s++)
-			w[i++] = *s;
-	w[i] = '\0';
-	return w;
-}
-
-/* Rejects members of obj not named in keys (NULL-terminated). */
-static int
-check_keys(json_t *obj, const char *const *keys, const char *base,
-    struct err *e)
-{
-	const char *key;
-	json_t *v;
-	char w[ERR_WHERE_MAX];
-	size_t i;
-
-	json_object_foreach(obj, key, v) {
-		for (i = 0; keys[i] != NULL; i++)
-			if (strcmp(key, keys[i]) == 0)
-				break;
-		if (keys[i] == NULL)
-			return err_set(e, ERR_INVALID, path(w, sizeof(w), base,
-			    key), "unknown field");
-	}
-	return 0;
-}
-
-/* Checks an id's form: 1..MODEL_ID_MAX bytes, no control chars, no '/'. */
-static int
-check_id(const char *s, const char *where, struct err *e)
-{
-	size_t i, n = strlen(s);
-
-	if (n == 0)
-		return err_set(e, ERR_INVALID, where, "must not be empty");
-	if (n > MODEL_ID_MAX)
-		return err_set(e, ERR_INVALID, where, "longer than %d bytes",
-		    MODEL_ID_MAX);
-	for (i = 0; i < n; i++)
-		if ((unsigned char)s[i] < 0x20 || s[i] == 0x7f || s[i] == '/')
-			return err_set(e, ERR_INVALID, where, "must not "
-			    "contain control characters or '/'");
-	return 0;
-}
-
-/*
- * Gets string member key of obj into *sp (borrowed from obj).  Absent (or
- * null when nullable): *sp NULL, an error only when required.
- */
-static int
-get_str(json_t *obj, const char *key, const char *base, bool required,
-    bool nullable, const char **sp, struct err *e)
-{
-	json_t *v = json_object_get(obj, key);
-	char w[ERR_WHERE_MAX];
-
-	*sp = NULL;
-	if (v == NULL || (nullable && json_is_null(v))) {
-		if (required && v == NULL)
-			return err_set(e, ERR_INVALID, path(w, sizeof(w), base,
-			    key), "required field is missing");
-		return 0;
-	}
-	if (!json_is_string(v))
-		return err_set(e, ERR_INVALID, path(w, sizeof(w), base, key),
-		    "must be a string");
-	/* jansson allows no NUL inside strings without JSON_ALLOW_NUL. */
-	*sp = json_string_value(v);
-	return 0;
-}
-
-/* Gets an id member: a string that passes check_id(). */
+/* Gets an id member: a string that passes codec_check_id(). */
 static int
 get_id(json_t *obj, const char *key, const char *base, const char **sp,
     struct err *e)
@@ -200,44 +40,9 @@ get_id(json_t *obj, const char *key, const char *base, const char **sp,
 	char w[ERR_WHERE_MAX];
 	int r;
 
-	if ((r = get_str(obj, key, base, true, false, sp, e)) != 0)
+	if ((r = codec_get_str(obj, key, base, true, false, sp, e)) != 0)
 		return r;
-	return check_id(*sp, path(w, sizeof(w), base, key), e);
-}
-
-/*
- * Gets number member key into *xp, checking lo <= x <= hi (lo < x when
- * lo_open).  Absent: *xp untouched, *hasp false, an error when required.
- */
-static int
-get_num(json_t *obj, const char *key, const char *base, bool required,
-    double lo, bool lo_open, double hi, double *xp, bool *hasp,
-    struct err *e)
-{
-	json_t *v = json_object_get(obj, key);
-	char w[ERR_WHERE_MAX];
-	double x;
-
-	if (hasp != NULL)
-		*hasp = false;
-	path(w, sizeof(w), base, key);
-	if (v == NULL) {
-		if (required)
-			return err_set(e, ERR_INVALID, w,
-			    "required field is missing");
-		return 0;
-	}
-	if (!json_is_number(v))
-		return err_set(e, ERR_INVALID, w, "must be a number");
-	x = json_number_value(v);
-	if (!isfinite(x) || x > hi || x < lo || (lo_open && x == lo))
-		return err_set(e, ERR_INVALID, w, "%.17g is out of range: "
-		    "must be %s %g and <= %g", x, lo_open ? ">" : ">=", lo,
-		    hi);
-	*xp = x;
-	if (hasp != NULL)
-		*hasp = true;
-	return 0;
+	return codec_check_id(*sp, codec_path(w, sizeof(w), base, key), e);
 }
 
 /* Gets array member key into *ap, at most max elements. */
@@ -309,12 +114,12 @@ get_state(json_t *obj, const char *base, bool *upp, bool *hasp,
 	int r;
 
 	*hasp = false;
-	if ((r = get_str(obj, "state", base, false, false, &s, e)) != 0)
+	if ((r = codec_get_str(obj, "state", base, false, false, &s, e)) != 0)
 		return r;
 	if (s == NULL)
 		return 0;
 	if (strcmp(s, "up") != 0 && strcmp(s, "down") != 0)
-		return err_set(e, ERR_INVALID, path(w, sizeof(w), base,
+		return err_set(e, ERR_INVALID, codec_path(w, sizeof(w), base,
 		    "state"), "must be \"up\" or \"down\"");
 	*upp = strcmp(s, "up") == 0;
 	*hasp = true;
@@ -341,7 +146,7 @@ get_srlgs(json_t *obj, const char *base, uint32_t *s, size_t *np,
 	*hasp = false;
 	if (v == NULL)
 		return 0;
-	path(w, sizeof(w), base, "srlgs");
+	codec_path(w, sizeof(w), base, "srlgs");
 	if (!json_is_array(v))
 		return err_set(e, ERR_INVALID, w, "must be an array of SRLG "
 		    "numbers");
@@ -376,22 +181,22 @@ decode_node(struct model *m, json_t *v, const char *base, struct err *e)
 	size_t idx;
 	int r;
 
-	if ((r = check_keys(v, node_keys, base, e)) != 0 ||
+	if ((r = codec_check_keys(v, node_keys, base, e)) != 0 ||
 	    (r = get_id(v, "id", base, &id, e)) != 0 ||
-	    (r = get_str(v, "name", base, false, true, &name, e)) != 0 ||
-	    (r = get_num(v, "lat", base, false, -90, false, 90, &lat,
+	    (r = codec_get_str(v, "name", base, false, true, &name, e)) != 0 ||
+	    (r = codec_get_num(v, "lat", base, false, -90, false, 90, &lat,
 	    &has_lat, e)) != 0 ||
-	    (r = get_num(v, "lon", base, false, -180, false, 180, &lon,
+	    (r = codec_get_num(v, "lon", base, false, -180, false, 180, &lon,
 	    &has_lon, e)) != 0)
 		return r;
 	if (name != NULL && strlen(name) > CODEC_TEXT_MAX)
-		return err_set(e, ERR_INVALID, path(w, sizeof(w), base,
+		return err_set(e, ERR_INVALID, codec_path(w, sizeof(w), base,
 		    "name"), "longer than %d bytes", CODEC_TEXT_MAX);
 	if (has_lat != has_lon)
-		return err_set(e, ERR_INVALID, path(w, sizeof(w), base,
+		return err_set(e, ERR_INVALID, codec_path(w, sizeof(w), base,
 		    has_lat ? "lon" : "lat"), "lat and lon come together");
 	if (model_find_node(m, id) >= 0)
-		return err_set(e, ERR_INVALID, path(w, sizeof(w), base, "id"),
+		return err_set(e, ERR_INVALID, codec_path(w, sizeof(w), base, "id"),
 		    "duplicate node id \"%s\"", id);
 	if ((r = model_add_node(m, id, name, &idx, base, e)) != 0)
 		return r;
@@ -412,28 +217,28 @@ decode_link(struct model *m, json_t *v, const char *base, struct err *e)
 	size_t n_srlgs;
 	int r;
 
-	if ((r = check_keys(v, link_keys, base, e)) != 0 ||
+	if ((r = codec_check_keys(v, link_keys, base, e)) != 0 ||
 	    (r = get_id(v, "id", base, &id, e)) != 0 ||
 	    (r = get_id(v, "a", base, &a, e)) != 0 ||
 	    (r = get_id(v, "b", base, &b, e)) != 0 ||
-	    (r = get_num(v, "capacity_bps", base, true, 0, true,
+	    (r = codec_get_num(v, "capacity_bps", base, true, 0, true,
 	    MODEL_RATE_MAX, &cap, NULL, e)) != 0 ||
-	    (r = get_num(v, "te_metric", base, true, 0, true,
+	    (r = codec_get_num(v, "te_metric", base, true, 0, true,
 	    MODEL_METRIC_MAX, &metric, NULL, e)) != 0 ||
 	    (r = get_state(v, base, &up, &has_state, e)) != 0 ||
 	    (r = get_srlgs(v, base, srlgs, &n_srlgs, &has_srlgs, e)) != 0)
 		return r;
 	if (model_find_link(m, id) >= 0)
-		return err_set(e, ERR_INVALID, path(w, sizeof(w), base, "id"),
+		return err_set(e, ERR_INVALID, codec_path(w, sizeof(w), base, "id"),
 		    "duplicate link id \"%s\"", id);
 	if (model_find_node(m, a) < 0)
-		return err_set(e, ERR_INVALID, path(w, sizeof(w), base, "a"),
+		return err_set(e, ERR_INVALID, codec_path(w, sizeof(w), base, "a"),
 		    "unknown node \"%s\"", a);
 	if (model_find_node(m, b) < 0)
-		return err_set(e, ERR_INVALID, path(w, sizeof(w), base, "b"),
+		return err_set(e, ERR_INVALID, codec_path(w, sizeof(w), base, "b"),
 		    "unknown node \"%s\"", b);
 	if (strcmp(a, b) == 0)
-		return err_set(e, ERR_INVALID, path(w, sizeof(w), base, "b"),
+		return err_set(e, ERR_INVALID, codec_path(w, sizeof(w), base, "b"),
 		    "a link cannot join node \"%s\" to itself", a);
 	if ((r = model_add_link(m, id, a, b, cap, metric, up, base, e)) != 0)
 		return r;
@@ -453,8 +258,8 @@ codec_topology_decode(const char *text, size_t len, struct model **mp,
 
 	r = ERR_INTERNAL;
 	*mp = NULL;
-	if ((r = parse(text, len, &j, e)) != 0 ||
-	    (r = check_keys(j, topo_keys, "", e)) != 0 ||
+	if ((r = codec_parse_object(text, len, &j, e)) != 0 ||
+	    (r = codec_check_keys(j, topo_keys, "", e)) != 0 ||
 	    (r = get_array(j, "nodes", CODEC_NODES_MAX, &nodes, e)) != 0 ||
 	    (r = get_array(j, "links", CODEC_LINKS_MAX, &links, e)) != 0)
 		goto out;
@@ -493,9 +298,9 @@ codec_matrix_decode(const char *text, size_t len, const char *name,
 
 	r = ERR_INTERNAL;
 	*mxp = NULL;
-	if ((r = parse(text, len, &j, e)) != 0 ||
-	    (r = check_keys(j, matrix_keys, "", e)) != 0 ||
-	    (r = get_str(j, "name", "", false, true, &jname, e)) != 0 ||
+	if ((r = codec_parse_object(text, len, &j, e)) != 0 ||
+	    (r = codec_check_keys(j, matrix_keys, "", e)) != 0 ||
+	    (r = codec_get_str(j, "name", "", false, true, &jname, e)) != 0 ||
 	    (r = get_array(j, "demands", CODEC_DEMANDS_MAX, &demands,
 	    e)) != 0)
 		goto out;
@@ -508,10 +313,10 @@ codec_matrix_decode(const char *text, size_t len, const char *name,
 	json_array_foreach(demands, i, v) {
 		if ((r = element(demands, "demands", i, w, sizeof(w), &v,
 		    e)) != 0 ||
-		    (r = check_keys(v, demand_keys, w, e)) != 0 ||
+		    (r = codec_check_keys(v, demand_keys, w, e)) != 0 ||
 		    (r = get_id(v, "src", w, &src, e)) != 0 ||
 		    (r = get_id(v, "dst", w, &dst, e)) != 0 ||
-		    (r = get_num(v, "rate_bps", w, true, 0, false,
+		    (r = codec_get_num(v, "rate_bps", w, true, 0, false,
 		    MODEL_RATE_MAX, &rate, NULL, e)) != 0)
 			goto out;
 		prio = 0;
@@ -519,13 +324,13 @@ codec_matrix_decode(const char *text, size_t len, const char *name,
 		if (pv != NULL && (!json_is_integer(pv) ||
 		    (prio = json_integer_value(pv)) < 0 ||
 		    prio > MODEL_PRIO_MAX)) {
-			r = err_set(e, ERR_INVALID, path(wf, sizeof(wf), w,
+			r = err_set(e, ERR_INVALID, codec_path(wf, sizeof(wf), w,
 			    "priority"), "must be an integer from 0 to %d",
 			    MODEL_PRIO_MAX);
 			goto out;
 		}
 		if (strcmp(src, dst) == 0) {
-			r = err_set(e, ERR_INVALID, path(wf, sizeof(wf), w,
+			r = err_set(e, ERR_INVALID, codec_path(wf, sizeof(wf), w,
 			    "dst"), "a demand cannot run from node \"%s\" to "
 			    "itself", src);
 			goto out;
@@ -554,12 +359,12 @@ codec_policy_decode(const char *text, size_t len, struct policy *p,
 
 	r = ERR_INTERNAL;
 	policy_default(&np);
-	if ((r = parse(text, len, &j, e)) != 0 ||
-	    (r = check_keys(j, policy_keys, "", e)) != 0 ||
-	    (r = get_str(j, "objective", "", true, false, &obj, e)) != 0 ||
-	    (r = get_num(j, "headroom", "", true, 0, true, 1, &np.headroom,
+	if ((r = codec_parse_object(text, len, &j, e)) != 0 ||
+	    (r = codec_check_keys(j, policy_keys, "", e)) != 0 ||
+	    (r = codec_get_str(j, "objective", "", true, false, &obj, e)) != 0 ||
+	    (r = codec_get_num(j, "headroom", "", true, 0, true, 1, &np.headroom,
 	    NULL, e)) != 0 ||
-	    (r = get_num(j, "balance_tolerance", "", false, 0, false, 1,
+	    (r = codec_get_num(j, "balance_tolerance", "", false, 0, false, 1,
 	    &np.balance_tol, NULL, e)) != 0)
 		goto out;
 	if (objective_parse(obj, &np.objective) != 0) {
@@ -567,10 +372,10 @@ codec_policy_decode(const char *text, size_t len, struct policy *p,
 		    "\"balance\" or \"congestion\"");
 		goto out;
 	}
-	if ((r = get_str(j, "formulation", "", false, false, &form, e)) != 0 ||
-	    (r = get_num(j, "gap_target", "", false, 0, false, 0.5,
+	if ((r = codec_get_str(j, "formulation", "", false, false, &form, e)) != 0 ||
+	    (r = codec_get_num(j, "gap_target", "", false, 0, false, 0.5,
 	    &np.gap_target, NULL, e)) != 0 ||
-	    (r = get_num(j, "keep_paths_tolerance", "", false, 0, false, 0.5,
+	    (r = codec_get_num(j, "keep_paths_tolerance", "", false, 0, false, 0.5,
 	    &np.keep_paths_tol, NULL, e)) != 0)
 		goto out;
 	if (form != NULL && formulation_parse(form, &np.formulation) != 0) {
@@ -591,7 +396,7 @@ codec_policy_decode(const char *text, size_t len, struct policy *p,
 		    "missing (null for none)");
 		goto out;
 	}
-	if ((r = get_str(j, "matrix", "", false, true, &mname, e)) != 0)
+	if ((r = codec_get_str(j, "matrix", "", false, true, &mname, e)) != 0)
 		goto out;
 	if (mname != NULL && !codec_matrix_name_ok(mname)) {
 		r = err_set(e, ERR_INVALID, "matrix", "a matrix name is 1 to "
@@ -617,12 +422,12 @@ codec_link_patch_decode(const char *text, size_t len, struct link_patch *lp,
 
 	r = ERR_INTERNAL;
 	memset(&np, 0, sizeof(np));
-	if ((r = parse(text, len, &j, e)) != 0 ||
-	    (r = check_keys(j, patch_keys, "", e)) != 0 ||
+	if ((r = codec_parse_object(text, len, &j, e)) != 0 ||
+	    (r = codec_check_keys(j, patch_keys, "", e)) != 0 ||
 	    (r = get_state(j, "", &np.up, &np.has_up, e)) != 0 ||
-	    (r = get_num(j, "capacity_bps", "", false, 0, true,
+	    (r = codec_get_num(j, "capacity_bps", "", false, 0, true,
 	    MODEL_RATE_MAX, &np.capacity_bps, &np.has_capacity, e)) != 0 ||
-	    (r = get_num(j, "te_metric", "", false, 0, true,
+	    (r = codec_get_num(j, "te_metric", "", false, 0, true,
 	    MODEL_METRIC_MAX, &np.te_metric, &np.has_metric, e)) != 0 ||
 	    (r = get_srlgs(j, "", np.srlgs, &np.n_srlgs, &np.has_srlgs,
 	    e)) != 0)
