@@ -5,7 +5,7 @@
  * DESIGN
  * usage: engine_bench FILE [--objective cost|balance]
  *            [--formulation path|arc] [--fail-links N] [--seed S]
- *            [--links ID,ID...]
+ *            [--links ID,ID...] [--from-seed]
  *            [--scale-demands F] [--keep-paths] [--prescale F] [--debug]
  *
  * Solves FILE once from nothing ("full"), then, keeping the engine state,
@@ -13,7 +13,9 @@
  * its restore ("link_down", "restore"), then the links --links names (in
  * the file's order), the same way, then multiplies every demand by F
  * ("scale_demands").  --prescale multiplies the demands before the
- * first solve (an over-subscribed instance).  Every solve prints one JSON object on its own line
+ * first solve (an over-subscribed instance).  --from-seed solves each
+ * link failure from a state rebuilt from the seed of the first solve, as
+ * what-ifs and sweeps do (no restore), and prints the rebuild time.  Every solve prints one JSON object on its own line
  * with the wall time and the plan's figures, so a driver can compute
  * ratios, then a line "  stages: [...]" (not JSON: drivers skip lines
  * that do not start with "{").  --debug sends the engine's debug log to
@@ -116,12 +118,28 @@ run(struct engine_state **st, const struct model *m, const char *file,
 	return 0;
 }
 
+/* With --from-seed: scenarios start from this seed, as sweeps do. */
+static struct engine_seed *from_seed;
+
 /* Link l down, solve, back up, solve. */
 static int
 fail_restore(struct engine_state **st, struct model *m, const char *file,
     size_t l)
 {
+	struct engine_state *sst;
+	double t0;
+	int r;
+
 	m->links[l].up = false;
+	if (from_seed != NULL) {
+		t0 = now_ms();
+		sst = engine_state_from_seed(from_seed);
+		printf("  rebuild from seed: %.3f ms\n", now_ms() - t0);
+		r = run(&sst, m, file, "link_down", m->links[l].id);
+		engine_state_free(sst);
+		m->links[l].up = true;
+		return r;
+	}
 	if (run(st, m, file, "link_down", m->links[l].id) != 0)
 		return 1;
 	m->links[l].up = true;
@@ -139,7 +157,7 @@ main(int argc, char **argv)
 	size_t len, i, n_fail = 0, l, *picked;
 	unsigned long seed = 1;
 	double scale = 0, prescale = 0;
-	bool balance = false, path = true, keep = false;
+	bool balance = false, path = true, keep = false, seeded = false;
 	int a, r = 1;
 
 	for (a = 1; a < argc; a++) {
@@ -160,6 +178,8 @@ main(int argc, char **argv)
 			prescale = strtod(argv[++a], NULL);
 		else if (strcmp(argv[a], "--keep-paths") == 0)
 			keep = true;
+		else if (strcmp(argv[a], "--from-seed") == 0)
+			seeded = true;
 		else if (strcmp(argv[a], "--debug") == 0)
 			log_set_level(LOG_LVL_DEBUG);
 		else if (argv[a][0] != '-' && file == NULL)
@@ -169,7 +189,8 @@ main(int argc, char **argv)
 			    "cost|balance] [--formulation path|arc] "
 			    "[--fail-links N] [--links ID,ID..] [--seed S] "
 			    "[--scale-demands F] "
-			    "[--keep-paths] [--prescale F] [--debug]\n");
+			    "[--keep-paths] [--prescale F] [--from-seed] "
+			    "[--debug]\n");
 			return 2;
 		}
 	}
@@ -194,6 +215,12 @@ main(int argc, char **argv)
 			m->demands[i].rate_bps *= prescale;
 	if (run(&st, m, file, "full", "") != 0)
 		goto out;
+	if (seeded) {
+		double t0 = now_ms();
+
+		from_seed = engine_seed_take(st);
+		printf("  seed taken: %.3f ms\n", now_ms() - t0);
+	}
 	if (n_fail > m->n_links)
 		n_fail = m->n_links;
 	picked = xcalloc(m->n_links + 1, sizeof(*picked));
@@ -229,6 +256,7 @@ main(int argc, char **argv)
 	}
 	r = 0;
 out:
+	engine_seed_free(from_seed);
 	engine_state_free(st);
 	model_free(m);
 	engine_thread_done();

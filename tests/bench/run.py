@@ -39,15 +39,24 @@ Kdl case (tests/bench/synth.py), on one machine and in one run:
      more than 1e-6, weft must lie within their spread widened by 1e-6 (as
      in tests/reference/run.py).  A mismatch is FAIL in the table and exit
      code 1.  Incremental re-solves are timed only.
+  6. Sweeps (SWEEP_INSTANCES, germany50 and brain, when selected): a fresh
+     daemon with the path formulation and the balance plan in force (the
+     capacities scaled as in 1), a full single-link sweep (POST /v1/sweeps
+     {"kind":"links"}, the daemon's default 2 worker threads) polled until
+     done; its elapsed_s against one full balance solve of a fresh daemon
+     (the ratio the issue's target is about), and the median scenario.
+     Every scenario must end without a solver failure.
 
 No timing is asserted: this is a measurement.  The machine is shared, so
 the numbers move from run to run; ratios within one run are the figure to
 read (tests/bench/README.md).
 
 Usage: run.py [--quick] [--runs N] [--sites N] [--failures N]
-              [--solver-timeout S] [instance ...]
+              [--solver-timeout S] [--sweeps-only] [--no-sweeps]
+              [instance ...]
   --quick skips brain and the synthetic case; instance names are SNDlib
-  file stems (abilene, brain, ...) and "kdl-synth".
+  file stems (abilene, brain, ...) and "kdl-synth".  --sweeps-only runs
+  only part 6, --no-sweeps skips it.
 Environment: WEFTD (daemon binary).  Output: the table on stdout and
 build/bench/results.json.
 """
@@ -79,6 +88,8 @@ PYTHON = "/usr/bin/python3"
 MATRIX = "bench"
 SYNTH = "kdl-synth"
 BIG = ("brain", SYNTH)
+SWEEP_INSTANCES = ("germany50", "brain")
+SWEEP_TIMEOUT = 7200.0
 SEED = 7001
 REL = 1e-6
 HTTP_TIMEOUT = 1800.0
@@ -407,6 +418,66 @@ def run_weft(inst, form, args, export_dir):
     return out, full
 
 
+# ---- sweeps ----
+
+def run_sweep(inst):
+    """Part 6: a single-link sweep against one full solve (path, balance)."""
+    d = Daemon()
+    try:
+        load(d, inst)
+        factor, _ = make_fit(d, "path")
+        topo = get(d, "/v1/topology")
+        t0 = time.perf_counter()
+        r = d.request("POST", "/v1/sweeps", {"kind": "links"}, timeout=HTTP_TIMEOUT)
+        if r.status != 202:
+            raise BenchError("POST /v1/sweeps: HTTP %d %s" % (r.status, r.body[:300]))
+        sid = r.json()["id"]
+        while True:
+            sw = get(d, "/v1/sweeps/%d" % sid)
+            if sw["state"] != "running":
+                break
+            if time.perf_counter() - t0 > SWEEP_TIMEOUT:
+                raise BenchError("sweep still running after %.0f s" % SWEEP_TIMEOUT)
+            time.sleep(0.5)
+        wall = time.perf_counter() - t0
+        peak = vm_hwm_mib(d)
+    finally:
+        d.stop()
+    full = cold_solve(inst, topo, "path", "balance")
+    res = sw["results"]
+    failed = [x for x in res if x["status"] == "failed"]
+    out = {"name": inst["name"], "capacity_factor": factor, "state": sw["state"],
+           "scenarios": sw["total"], "done": sw["done"], "sweep_s": sw["elapsed_s"],
+           "wall_s": wall, "full_s": full["solve_s"], "peak_mib": peak,
+           "ratio": sw["elapsed_s"] / full["solve_s"] if full["solve_s"] > 0 else None,
+           "scenario_ms_median": statistics.median(x["solve_ms"] for x in res) if res else None,
+           "scenario_ms_max": max(x["solve_ms"] for x in res) if res else None,
+           "partial": sum(x["status"] == "partial" for x in res),
+           "failed": len(failed), "ok": sw["state"] == "done" and not failed}
+    print("    sweep links: %d scenarios in %.1f s = %.1f x one full balance solve (%.2f s); "
+          "scenario median %.0f ms, max %.0f ms; %d partial, %d failed" % (
+              out["scenarios"], out["sweep_s"], out["ratio"] or float("nan"), out["full_s"],
+              out["scenario_ms_median"] or 0, out["scenario_ms_max"] or 0, out["partial"],
+              out["failed"]), flush=True)
+    return out
+
+
+def sweep_table(rows):
+    head = ("instance", "links", "cap x", "full s", "sweep s", "sweep/full", "scen. ms med",
+            "scen. ms max", "partial", "weft MiB", "check")
+    body = [(r["name"], str(r["scenarios"]), str(r["capacity_factor"]), f3(r["full_s"]),
+             "%.1f" % r["sweep_s"], "%.1f" % r["ratio"], "%.0f" % r["scenario_ms_median"],
+             "%.0f" % r["scenario_ms_max"], str(r["partial"]),
+             "%.0f" % r["peak_mib"] if r["peak_mib"] else "-",
+             "ok" if r["ok"] else "FAIL") for r in rows]
+    w = [max(len(h), *(len(b[i]) for b in body)) if body else len(h)
+         for i, h in enumerate(head)]
+    lines = ["  ".join(h.ljust(w[i]) for i, h in enumerate(head)),
+             "  ".join("-" * x for x in w)]
+    lines += ["  ".join(c.ljust(w[i]) for i, c in enumerate(b)) for b in body]
+    return "\n".join(lines)
+
+
 # ---- checks and the table ----
 
 def check(weft, ref, scale=1.0):
@@ -530,11 +601,17 @@ class Args:
         self.failures = 20
         self.solver_timeout = 900.0
         self.names = []
+        self.sweeps = True
+        self.main = True
         i = 0
         while i < len(argv):
             a = argv[i]
             if a == "--quick":
                 self.quick = True
+            elif a == "--sweeps-only":
+                self.main = False
+            elif a == "--no-sweeps":
+                self.sweeps = False
             elif a in ("--runs", "--sites", "--failures", "--solver-timeout") and i + 1 < len(argv):
                 setattr(self, a[2:].replace("-", "_"), type(getattr(self, a[2:].replace("-", "_")))(
                     argv[i + 1]))
@@ -590,7 +667,7 @@ def main(argv):
     result["formulations"] = forms or ["default (node-arc)"]
     rows = []
     any_fail = False
-    for inst in instances(args):
+    for inst in instances(args) if args.main else []:
         name = inst["name"]
         big = name in BIG
         runs = 1 if big else args.runs
@@ -630,6 +707,20 @@ def main(argv):
             rows.append(row)
         rec["wall_s"] = time.time() - t0
         print("   %s done in %.1f s" % (name, rec["wall_s"]), flush=True)
+    sweeps = []
+    for inst in instances(args) if args.sweeps else []:
+        if inst["name"] not in SWEEP_INSTANCES:
+            continue
+        print("== %s sweep" % inst["name"], flush=True)
+        try:
+            sweeps.append(run_sweep(inst))
+            any_fail |= not sweeps[-1]["ok"]
+        except Exception as e:
+            traceback.print_exc()
+            any_fail = True
+            result.setdefault("sweep_errors", []).append(
+                "%s: %s: %s" % (inst["name"], type(e).__name__, str(e)[:500]))
+    result["sweeps"] = sweeps
     result["machine_end"] = machine()
     result["wall_s"] = time.time() - t_start
     result["table"] = rows
@@ -637,8 +728,15 @@ def main(argv):
     with open(OUT, "w") as f:
         json.dump(result, f, indent=1)
     print()
-    print(table(rows))
-    print()
+    if rows:
+        print(table(rows))
+        print()
+    if sweeps:
+        print(sweep_table(sweeps))
+        print()
+        print("sweep: one scenario per link that is up, each warm-started from the live "
+              "plan's master on the worker threads; sweep/full: the sweep's elapsed_s over "
+              "one full balance solve of a fresh daemon.")
     print("weft s: median plan solve_ms of %d full solves (all stages); CLP/glpsol/HiGHS s "
           "b/c: balance-stage LP / cost-stage LP; incr: median of the link-down re-solves; "
           "big instances (%s): 1 reference run." % (args.runs, ", ".join(BIG)))
