@@ -436,7 +436,7 @@ keep(struct engine_state *st, double z, struct err *e)
 
 /*
  * The warm shortcut for a change that only takes away (links down,
- * capacities lowered, rates raised) after a balance solve that fit: the
+ * capacities lowered; rates unchanged) after a balance solve that fit: the
  * least U cannot have fallen, so when everything still fits with U at
  * most the kept cap, the balance optimum is within balance_tol of the
  * kept one and the cap stands.  One column generation on W x sum u +
@@ -790,7 +790,13 @@ apply(struct engine_state *st, const struct model *m)
 	st->demand_lp = 0;
 	memset(st->class_lp, 0, sizeof(st->class_lp));
 	for (k = 0; k < st->n_dem; k++) {
-		if (m->demands[k].rate_bps / st->scale < st->d_lp[k])
+		/*
+		 * Rates raised would keep the argument, but U then usually
+		 * rises too and the shortcut only costs time (brain, all
+		 * rates x 1.1: 4.9 s against 0.13 s): any rate change takes
+		 * the full stages.
+		 */
+		if (m->demands[k].rate_bps / st->scale != st->d_lp[k])
 			st->tighter = false;
 		st->d_lp[k] = m->demands[k].rate_bps / st->scale;
 		st->demand_lp += st->d_lp[k];
