@@ -232,13 +232,15 @@ codec_sweep_encode(const struct db_sweep *s, const struct db_sweep_result *rs,
 	size_t i;
 	bool ok = true;
 
-	if (!running) {
-		done = s->done;
-		elapsed_s = s->elapsed_s;
-	}
-	j = sweep_head(s, done, elapsed_s);
+	/*
+	 * done counts the results stored (and listed); the running count,
+	 * up to a second ahead of it, only estimates the time left.
+	 */
 	if (running && done > 0)
 		eta = elapsed_s / (double)done * (double)(s->total - done);
+	if (!running)
+		elapsed_s = s->elapsed_s;
+	j = sweep_head(s, s->done, elapsed_s);
 	if (j == NULL || json_object_set_new(j, "eta_s", running ?
 	    codec_num(eta) : codec_num(0)) != 0)
 		ok = false;

@@ -40,8 +40,9 @@ char *codec_sweep_report(const struct model *m, const struct plan *p,
     const struct db_sweep_result *all, const bool *have, size_t n);
 
 /*
- * GET /v1/sweeps/{id}: the stored sweep with its results; when running,
- * done and elapsed_s are the live ones.
+ * GET /v1/sweeps/{id}: the stored sweep with its results (done is their
+ * count); when running, done (the live count) gives the time left and
+ * elapsed_s is the live one.
  */
 char *codec_sweep_encode(const struct db_sweep *s,
     const struct db_sweep_result *rs, size_t n, bool running, long done,

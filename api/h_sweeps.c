@@ -42,14 +42,18 @@ h_sweep_start(struct req *rq, struct err *e)
 	long total = 0;
 	char *params, href[64];
 	int r;
+	double tl = service_conf(rq->svc)->whatif_time_limit_s;
 
 	if ((r = codec_sweep_decode(rq->body, rq->body_len, &sr, e)) != 0)
 		return r;
+	if (sr.time_limit_s > tl)
+		return err_set(e, ERR_INVALID, "time_limit_s", "at most %g s "
+		    "(whatif_time_limit_s)", tl);
+	if (sr.time_limit_s > 0)
+		tl = sr.time_limit_s;
 	params = codec_sweep_params(&sr);
-	r = sweeps_start(service_sweeps(rq->svc), sr.kind, sr.scale,
-	    sr.time_limit_s > 0 ? sr.time_limit_s :
-	    service_conf(rq->svc)->whatif_time_limit_s, params, &id, &total,
-	    e);
+	r = sweeps_start(service_sweeps(rq->svc), sr.kind, sr.scale, tl,
+	    params, &id, &total, e);
 	free(params);
 	if (r != 0)
 		return r;

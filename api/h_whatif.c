@@ -62,9 +62,12 @@ base_model(struct req *rq, const struct model *live, struct whatif_req *wr,
 	*mp = NULL;
 	if (wr->matrix != NULL &&
 	    (r = service_load_matrix(rq->svc, wr->matrix, &mx, e)) != 0) {
-		if (r == ERR_NOTFOUND)
+		if (r == ERR_NOTFOUND) {
+			/* The member, not storage's name for it. */
+			err_clear(e);
 			err_set(e, r, "matrix", "no matrix \"%s\"",
 			    wr->matrix);
+		}
 		return r;
 	}
 	m = model_copy(live);
