@@ -1,7 +1,7 @@
 # SPDX-License-Identifier: GPL-3.0-or-later
 # weft: one Makefile, no autotools.  Output goes to build/.
 #
-#   make            build weftd (build/weftd)
+#   make            build weftd (build/weftd) and the client (build/weft)
 #   make check      unit tests, integration tests, reference checks
 #   make check-unit unit tests only
 #   make demo       build, start weftd on demo.db with the demo network
@@ -43,9 +43,10 @@ LIBENGINE  := $(BUILD)/libengine.a
 LIBSTORAGE := $(BUILD)/libstorage.a
 LIBAPI     := $(BUILD)/libapi.a
 WEFTD      := $(BUILD)/weftd
+WEFT       := $(BUILD)/weft
 SCHEMA_C   := $(BUILD)/gen/schema_sql.c
 
-all: $(WEFTD)
+all: $(WEFTD) $(WEFT)
 
 # A change of flags rebuilds everything.
 $(BUILD)/flags: FORCE
@@ -66,17 +67,43 @@ $(BUILD)/obj/gen/schema_sql.o: $(SCHEMA_C) $(BUILD)/flags
 	@mkdir -p $(dir $@)
 	$(CC) $(CFLAGS) -c $< -o $@
 
+# The network map page (api/web/) is compiled in too: each file one array.
+WEB_FILES := $(sort $(wildcard api/web/*))
+WEB_C     := $(BUILD)/gen/web_files.c
+$(WEB_C): $(WEB_FILES) api/web_embed.sh
+	@mkdir -p $(dir $@)
+	sh api/web_embed.sh $(WEB_FILES) > $@.tmp && mv $@.tmp $@
+
+$(BUILD)/obj/gen/web_files.o: $(WEB_C) $(BUILD)/flags
+	@mkdir -p $(dir $@)
+	$(CC) $(CFLAGS) -c $< -o $@
+
 $(LIBBASE): $(call obj,$(BASE_SRC))
 	$(AR) rcs $@ $^
 $(LIBENGINE): $(call obj,$(ENGINE_SRC))
 	$(AR) rcs $@ $^
 $(LIBSTORAGE): $(call obj,$(STORAGE_SRC)) $(BUILD)/obj/gen/schema_sql.o
 	$(AR) rcs $@ $^
-$(LIBAPI): $(call obj,$(API_SRC))
+$(LIBAPI): $(call obj,$(API_SRC)) $(BUILD)/obj/gen/web_files.o
 	$(AR) rcs $@ $^
 
 $(WEFTD): $(call obj,$(DAEMON_SRC)) $(LIBAPI) $(LIBSTORAGE) $(LIBENGINE) $(LIBBASE)
 	$(CC) $(LDFLAGS) -o $@ $^ $(LDLIBS)
+
+# ---- the client, weft (api/client/): libcurl and jansson ----
+# Its offline mode (weft solve) links the engine and, of the API layer,
+# only the plan codec and the number writer it needs: the rest of
+# libapi.a would pull in libmicrohttpd and the service.
+CLIENT_SRC  := $(wildcard api/client/*.c)
+CLIENT_OBJ  := $(call obj,$(CLIENT_SRC)) $(BUILD)/obj/api/codec_plan.o \
+               $(BUILD)/obj/api/codec_json.o
+CLIENT_CFLAGS := $(shell pkg-config --cflags libcurl 2>/dev/null)
+CLIENT_LIBS := $(shell pkg-config --libs libcurl jansson 2>/dev/null)
+$(BUILD)/obj/api/client/%.o: api/client/%.c $(BUILD)/flags
+	@mkdir -p $(dir $@)
+	$(CC) $(CFLAGS) $(PKG_CFLAGS) $(CLIENT_CFLAGS) -c $< -o $@
+$(WEFT): $(CLIENT_OBJ) $(LIBENGINE) $(LIBBASE)
+	$(CC) $(LDFLAGS) -o $@ $^ $(CLIENT_LIBS) -lglpk -lm -pthread
 
 # ---- unit tests: a layer's tests link only that layer and those below ----
 UNIT_BASE    := $(patsubst tests/unit/%.c,$(BUILD)/tests/%,$(wildcard tests/unit/base/*_test.c))
@@ -98,6 +125,9 @@ $(UNIT_API): $(BUILD)/tests/%: $(BUILD)/obj/tests/unit/%.o $(LIBAPI) $(LIBENGINE
 	@mkdir -p $(dir $@)
 	$(CC) $(LDFLAGS) -o $@ $^ $(LDLIBS)
 
+# The /metrics texts render the daemon's counters (daemon/stats.c).
+$(BUILD)/tests/api/metrics_test: $(BUILD)/obj/daemon/stats.o
+
 # The engine's timing driver (tests/bench): not part of make check.
 $(BUILD)/tests/bench/engine_bench: $(BUILD)/obj/tests/bench/engine_bench.o $(LIBENGINE) $(LIBBASE)
 	@mkdir -p $(dir $@)
@@ -114,7 +144,29 @@ check-integration: $(WEFTD)
 check-reference: $(WEFTD)
 	WEFTD=$(abspath $(WEFTD)) $(PYTHON) tests/reference/run.py
 
-check: check-unit check-integration check-reference
+check: check-unit check-integration check-reference check-client check-monitoring check-browser check-openapi
+
+# /metrics scraped by a real Prometheus, ETag/304, long polls, event streams.
+check-monitoring: $(WEFTD)
+	WEFTD=$(abspath $(WEFTD)) $(PYTHON) tests/integration/monitoring.py
+.PHONY: check-monitoring
+
+# The network map page in headless Chromium (Debian's chromium,
+# chromium-driver, python3-selenium); screenshots go to build/artifacts/.
+check-browser: $(WEFTD)
+	WEFTD=$(abspath $(WEFTD)) $(PYTHON) tests/browser/map_test.py
+.PHONY: check-browser
+
+# The client against its own daemon, its offline solve against HiGHS.
+check-client: $(WEFT) $(WEFTD)
+	WEFT=$(abspath $(WEFT)) WEFTD=$(abspath $(WEFTD)) $(PYTHON) tests/integration/client.py
+
+# docs/openapi.yaml: npm ci of the pinned validator (tests/openapi, npm's
+# cache in build/npm-cache), the document validated, compared with
+# api/routes.c, and real replies of a daemon checked against it.
+check-openapi: $(WEFTD)
+	WEFTD=$(abspath $(WEFTD)) $(PYTHON) tests/openapi/check.py
+.PHONY: check-openapi
 
 # The benchmark (tests/bench/README.md): takes minutes; not part of check.
 # make bench BENCH_ARGS="--quick" (or instance names, --runs N, ...).
@@ -125,15 +177,19 @@ bench: $(WEFTD)
 demo: $(WEFTD)
 	sh deploy/demo.sh $(WEFTD)
 
-install: $(WEFTD)
+install: $(WEFTD) $(WEFT)
 	install -d $(DESTDIR)$(PREFIX)/bin
 	install -m 755 $(WEFTD) $(DESTDIR)$(PREFIX)/bin/weftd
+	install -m 755 $(WEFT) $(DESTDIR)$(PREFIX)/bin/weft
+	install -d $(DESTDIR)$(PREFIX)/share/man/man1
+	install -m 644 docs/weft.1 $(DESTDIR)$(PREFIX)/share/man/man1/weft.1
 
 clean:
 	rm -rf $(BUILD)
 
 FORCE:
 .PHONY: all check check-unit check-integration check-reference demo install clean FORCE
+.PHONY: check-client
 .SECONDARY:
 
 -include $(shell find $(BUILD)/obj -name '*.d' 2>/dev/null)

@@ -127,7 +127,7 @@ codec_sweep_report(const struct model *m, const struct plan *p,
     double headroom, const double *worst, const long *worst_idx,
     const struct db_sweep_result *all, const bool *have, size_t n)
 {
-	json_t *links, *unserved, *wmax;
+	json_t *links, *unserved, *wmax, *fail;
 	struct worst *ws;
 	const struct link *l;
 	size_t a, i, k, n_ws = 0, *us, n_us = 0, len;
@@ -173,12 +173,14 @@ codec_sweep_report(const struct model *m, const struct plan *p,
 	}
 	qsort_r(us, n_us, sizeof(*us), cmp_unserved, (void *)all);
 	unserved = json_array();
-	for (i = 0; i < n_us; i++)
-		codec_append(unserved, json_pack("{s:I, s:O, s:o, s:o}",
-		    "index", (json_int_t)us[i], "fail",
-		    json_loads(all[us[i]].fail_json, 0, NULL),
-		    "unserved_bps", codec_num(all[us[i]].unserved_bps),
-		    "max_utilization", codec_num(all[us[i]].max_util)), &ok);
+	for (i = 0; i < n_us; i++) {
+		fail = json_loads(all[us[i]].fail_json, 0, NULL);
+		codec_append(unserved, json_pack("{s:I, s:o, s:o, s:o}",
+		    "index", (json_int_t)us[i], "fail", fail != NULL ? fail :
+		    json_object(), "unserved_bps",
+		    codec_num(all[us[i]].unserved_bps), "max_utilization",
+		    codec_num(all[us[i]].max_util)), &ok);
+	}
 	free(us);
 	wmax = best < 0 ? json_null() : json_pack("{s:o, s:I}", "value",
 	    codec_num(all[best].max_util), "index", (json_int_t)best);

@@ -7,16 +7,27 @@
  * takes the reference from service_plan_ref() and http.c drops it when
  * libmicrohttpd frees the response, so a newer plan may be published (and
  * this one released by the service) while the bytes are still being sent.
+ * The three plan texts carry the plan revision as their entity tag and
+ * answer a matching If-None-Match with 304 (RFC 9110, 13.1.2).
+ *
+ * A long poll (GET /v1/plan?wait=S&after=R) is deferred like a what-if:
+ * the connection is suspended and the service calls back (service.c,
+ * planwait.c) when a plan newer than R is published, when S seconds have
+ * passed or when the daemon stops; the callback, on that thread, sets the
+ * reply as a plain GET /v1/plan would have it, then completes the request.
  */
 
 #include <errno.h>
+#include <math.h>
 #include <stddef.h>
 #include <stdint.h>
+#include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
 
 #include "handlers.h"
 #include "../daemon/base/err.h"
+#include "../daemon/base/xalloc.h"
 #include "../daemon/engine/engine.h"
 #include "../daemon/service.h"
 #include "http.h"
@@ -24,14 +35,58 @@
 
 enum which { SUMMARY, ROUTES, LOADS };
 
+/*
+ * True when If-None-Match value inm (NULL: absent) matches the entity tag
+ * etag ("\"12\"") under the weak comparison If-None-Match uses: "*", or a
+ * list member equal to etag once any W/ prefix is set aside (RFC 9110,
+ * 13.1.2 and 8.8.3.2).  A malformed member ends the list unmatched.
+ */
+static bool
+none_match(const char *inm, const char *etag)
+{
+	const char *p = inm, *end;
+	size_t n = strlen(etag);
+
+	if (p == NULL)
+		return false;
+	for (;;) {
+		p += strspn(p, " \t,");
+		if (*p == '\0')
+			return false;
+		if (*p == '*')
+			return true;
+		if (p[0] == 'W' && p[1] == '/')
+			p += 2;
+		if (*p != '"' || (end = strchr(p + 1, '"')) == NULL)
+			return false;
+		end++;
+		if ((size_t)(end - p) == n && memcmp(p, etag, n) == 0)
+			return true;
+		p = end;
+		if (*p != '\0' && *p != ',' && *p != ' ' && *p != '\t')
+			return false;
+	}
+}
+
+/*
+ * Replies with text w of the published plan, or 304 when inm (the
+ * request's If-None-Match, NULL if none) matches its revision.
+ */
 static int
-plan_text(struct req *rq, enum which w, struct err *e)
+plan_text(struct req *rq, enum which w, const char *inm, struct err *e)
 {
 	struct published *pub;
+	char etag[32];
 
 	if ((pub = service_plan_ref(rq->svc)) == NULL)
 		return err_set(e, ERR_BUSY, "", "no plan has been published "
 		    "yet; retry shortly");
+	snprintf(etag, sizeof(etag), "\"%lld\"", (long long)pub->revision);
+	if (none_match(inm, etag)) {
+		service_plan_unref(pub);
+		reply_not_modified(rq, etag);
+		return 0;
+	}
 	switch (w) {
 	case SUMMARY:
 		reply_plan(rq, pub, pub->summary_json, pub->summary_len);
@@ -46,22 +101,119 @@ plan_text(struct req *rq, enum which w, struct err *e)
 	return 0;
 }
 
+/* A long poll in waiting. */
+struct poll {
+	struct req *rq;
+	char *inm;		/* owned copy of If-None-Match, or NULL */
+};
+
+/* The service's callback: replies with the plan, completes the request. */
+static void
+poll_done(void *ctx, enum planwait_why why)
+{
+	struct poll *pl = ctx;
+	struct req *rq = pl->rq;
+	struct err e = { 0 };
+	int r;
+
+	(void)why;
+	/* Timed out or stopping: the current plan, unchanged or not. */
+	if ((r = plan_text(rq, SUMMARY, pl->inm, &e)) != 0)
+		reply_error(rq, r, &e);
+	free(pl->inm);
+	free(pl);
+	http_complete(rq);
+}
+
+/* The query parameters of a long poll; *wait_sp 0 when none is asked. */
+static int
+poll_params(struct req *rq, double *wait_sp, int64_t *afterp, bool *has_afterp,
+    struct err *e)
+{
+	double max_s = service_conf(rq->svc)->long_poll_max_s;
+	const char *w, *a;
+	char *end;
+	long long x;
+
+	*wait_sp = 0;
+	*afterp = 0;
+	*has_afterp = false;
+	w = http_query(rq, "wait");
+	a = http_query(rq, "after");
+	if (w == NULL) {
+		if (a != NULL)
+			return err_set(e, ERR_INVALID, "after", "after is "
+			    "only valid with wait");
+		return 0;
+	}
+	errno = 0;
+	*wait_sp = strtod(w, &end);
+	if (w[0] == '\0' || *end != '\0' || errno != 0 ||
+	    !isfinite(*wait_sp) || *wait_sp <= 0 || *wait_sp > max_s)
+		return err_set(e, ERR_INVALID, "wait", "the query parameter "
+		    "wait must be a number of seconds above 0 and at most %g "
+		    "(long_poll_max_s)", max_s);
+	if (a != NULL) {
+		errno = 0;
+		x = strtoll(a, &end, 10);
+		if (a[0] < '0' || a[0] > '9' || *end != '\0' || errno != 0)
+			return err_set(e, ERR_INVALID, "after", "the query "
+			    "parameter after must be a plan revision (an "
+			    "integer >= 0)");
+		*afterp = x;
+		*has_afterp = true;
+	}
+	return 0;
+}
+
 int
 h_plan_summary(struct req *rq, struct err *e)
 {
-	return plan_text(rq, SUMMARY, e);
+	const char *inm = http_header(rq, "If-None-Match");
+	struct published *pub;
+	struct poll *pl;
+	double wait_s;
+	int64_t after;
+	bool has_after, queued;
+	int r;
+
+	if ((r = poll_params(rq, &wait_s, &after, &has_after, e)) != 0)
+		return r;
+	if (wait_s == 0)
+		return plan_text(rq, SUMMARY, inm, e);
+	if (!has_after) {
+		/* Without after: a plan newer than the current one. */
+		pub = service_plan_ref(rq->svc);
+		after = pub != NULL ? pub->revision : 0;
+		service_plan_unref(pub);
+	}
+	pl = xcalloc(1, sizeof(*pl));
+	pl->rq = rq;
+	pl->inm = inm != NULL ? xstrdup(inm) : NULL;
+	/* Deferred before it is queued: a plan may come at once. */
+	http_defer(rq);
+	r = service_plan_wait(rq->svc, after, wait_s * 1e3, poll_done, pl,
+	    &queued, e);
+	if (r == 0 && queued)
+		return 0;
+	http_undefer(rq);
+	free(pl->inm);
+	free(pl);
+	if (r != 0)
+		return r;
+	return plan_text(rq, SUMMARY, inm, e);
 }
 
 int
 h_plan_routes(struct req *rq, struct err *e)
 {
-	return plan_text(rq, ROUTES, e);
+	return plan_text(rq, ROUTES, http_header(rq, "If-None-Match"), e);
 }
 
 int
 h_plan_loads(struct req *rq, struct err *e)
 {
-	return plan_text(rq, LOADS, e);
+	return plan_text(rq, LOADS, http_header(rq, "If-None-Match"), e);
 }
 
 int

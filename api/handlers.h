@@ -60,4 +60,17 @@ int h_sweep_delete(struct req *rq, struct err *e);
 int h_sweep_results_csv(struct req *rq, struct err *e);
 int h_sweep_links_csv(struct req *rq, struct err *e);
 
+/* h_web.c */
+int h_web_index(struct req *rq, struct err *e);
+int h_web_file(struct req *rq, struct err *e);
+
+/* h_report_svg.c */
+int h_sweep_report_svg(struct req *rq, struct err *e);
+
+/* h_metrics.c */
+int h_metrics(struct req *rq, struct err *e);
+
+/* h_events.c */
+int h_events(struct req *rq, struct err *e);
+
 #endif /* WEFT_API_HANDLERS_H */

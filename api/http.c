@@ -17,9 +17,14 @@
  *      still reads its 413; past DISCARD_MAX the connection is closed.
  *   3. last, with no data: the handler runs (or the early error is
  *      replied) and the reply is queued.
- * on_completed() logs the request line and frees the req.  Reply bodies
- * are handed to libmicrohttpd without copying: owned text is freed by its
- * free callback, a borrowed plan text drops its plan reference there.
+ * on_completed() counts and logs the request line and frees the req.
+ * Reply bodies are handed to libmicrohttpd without copying: owned text is
+ * freed by its free callback, a borrowed plan text drops its plan
+ * reference there.  A streamed body (http_stream_new) is read through a
+ * libmicrohttpd content reader: when the stream has nothing to send, the
+ * reader suspends the connection and returns 0, and http_stream_wake()
+ * resumes it; the woken flag, under the stream's lock, keeps a wake that
+ * comes while the stream is being read from being lost.
  */
 
 #include <sys/socket.h>
@@ -42,6 +47,7 @@
 #include "../daemon/base/log.h"
 #include "../daemon/base/xalloc.h"
 #include "../daemon/service.h"
+#include "metrics.h"
 #include "reply.h"
 #include "routes.h"
 
@@ -56,6 +62,16 @@ enum {
 	DEFER_DONE = 3,		/* reply set: send it */
 };
 
+struct http_stream {
+	pthread_mutex_t mu;
+	struct MHD_Connection *conn;	/* borrowed */
+	http_fill_fn *fill;
+	http_done_fn *done;
+	void *ctx;
+	bool woken;		/* under mu: wake since the last fill */
+	bool suspended;		/* under mu: suspended by the reader */
+};
+
 struct http {
 	pthread_mutex_t defer_mu;
 	struct MHD_Daemon *mhd;
@@ -63,7 +79,11 @@ struct http {
 	size_t max_body;	/* bytes */
 	unsigned boot;		/* start time, makes request ids unique */
 	atomic_ullong n_req;	/* requests so far */
+	atomic_int active;	/* requests not yet completed */
 };
+
+/* How long http_stop() lets requests in flight finish, ms. */
+#define STOP_GRACE_MS	2000
 
 static uint64_t
 now_ns(void)
@@ -114,6 +134,7 @@ req_new(struct http *h, struct MHD_Connection *conn, const char *url,
 	int r;
 
 	rq = xcalloc(1, sizeof(*rq));
+	atomic_fetch_add(&h->active, 1);
 	rq->http = h;
 	rq->start_ns = now_ns();
 	rq->svc = h->svc;
@@ -190,6 +211,78 @@ unref_plan(void *cls)
 	service_plan_unref(cls);
 }
 
+struct http_stream *
+http_stream_new(struct req *rq, http_fill_fn *fill, http_done_fn *done,
+    void *ctx)
+{
+	struct http_stream *s = xcalloc(1, sizeof(*s));
+
+	pthread_mutex_init(&s->mu, NULL);
+	s->conn = rq->conn;
+	s->fill = fill;
+	s->done = done;
+	s->ctx = ctx;
+	return s;
+}
+
+void
+http_stream_free(struct http_stream *s)
+{
+	if (s == NULL)
+		return;
+	s->done(s->ctx);
+	pthread_mutex_destroy(&s->mu);
+	free(s);
+}
+
+void
+http_stream_wake(struct http_stream *s)
+{
+	pthread_mutex_lock(&s->mu);
+	s->woken = true;
+	if (s->suspended) {
+		s->suspended = false;
+		MHD_resume_connection(s->conn);
+	}
+	pthread_mutex_unlock(&s->mu);
+}
+
+/* libmicrohttpd's content reader for a stream. */
+static ssize_t
+stream_read(void *cls, uint64_t pos, char *buf, size_t max)
+{
+	struct http_stream *s = cls;
+	long n;
+
+	(void)pos;
+	for (;;) {
+		pthread_mutex_lock(&s->mu);
+		s->woken = false;
+		pthread_mutex_unlock(&s->mu);
+		n = s->fill(s->ctx, buf, max);
+		if (n > 0)
+			return (ssize_t)n;
+		if (n < 0)
+			return MHD_CONTENT_READER_END_OF_STREAM;
+		pthread_mutex_lock(&s->mu);
+		if (s->woken) {
+			/* Woken while filling: look again. */
+			pthread_mutex_unlock(&s->mu);
+			continue;
+		}
+		s->suspended = true;
+		MHD_suspend_connection(s->conn);
+		pthread_mutex_unlock(&s->mu);
+		return 0;
+	}
+}
+
+static void
+stream_free(void *cls)
+{
+	http_stream_free(cls);
+}
+
 /* Step 3: turns rq's reply into a response and queues it. */
 static enum MHD_Result
 send_reply(struct MHD_Connection *conn, struct req *rq)
@@ -197,6 +290,7 @@ send_reply(struct MHD_Connection *conn, struct req *rq)
 	struct MHD_Response *resp;
 	enum MHD_Result ret;
 	char num[32];
+	bool streamed;
 
 	if (rq->status == 0) {
 		struct err e = { 0 };
@@ -204,7 +298,13 @@ send_reply(struct MHD_Connection *conn, struct req *rq)
 		err_set(&e, ERR_INTERNAL, NULL, "handler set no reply");
 		reply_error(rq, ERR_INTERNAL, &e);
 	}
-	if (rq->out_plan != NULL) {
+	streamed = rq->out_stream != NULL;
+	if (streamed) {
+		resp = MHD_create_response_from_callback(MHD_SIZE_UNKNOWN,
+		    4096, stream_read, rq->out_stream, stream_free);
+		if (resp != NULL)
+			rq->out_stream = NULL;
+	} else if (rq->out_plan != NULL) {
 		resp = MHD_create_response_from_buffer_with_free_callback_cls(
 		    rq->out_len, rq->out, unref_plan, rq->out_plan);
 		if (resp != NULL)
@@ -218,8 +318,10 @@ send_reply(struct MHD_Connection *conn, struct req *rq)
 		return MHD_NO;
 	}
 	rq->out = NULL;		/* libmicrohttpd's now */
-	MHD_add_response_header(resp, MHD_HTTP_HEADER_CONTENT_TYPE,
-	    rq->ctype != NULL ? rq->ctype : "application/json");
+	/* A 304 sends no representation metadata (RFC 9110, 15.4.5). */
+	if (rq->status != 304)
+		MHD_add_response_header(resp, MHD_HTTP_HEADER_CONTENT_TYPE,
+		    rq->ctype != NULL ? rq->ctype : "application/json");
 	MHD_add_response_header(resp, "X-Request-Id", rq->id);
 	if (rq->allow[0] != '\0')
 		MHD_add_response_header(resp, MHD_HTTP_HEADER_ALLOW,
@@ -231,7 +333,7 @@ send_reply(struct MHD_Connection *conn, struct req *rq)
 		MHD_add_response_header(resp, MHD_HTTP_HEADER_RETRY_AFTER,
 		    num);
 	}
-	if (rq->status >= 400)
+	if (rq->status >= 400 || streamed)
 		MHD_add_response_header(resp, MHD_HTTP_HEADER_CACHE_CONTROL,
 		    "no-store");
 	ret = MHD_queue_response(conn, (unsigned)rq->status, resp);
@@ -374,13 +476,15 @@ static void
 on_completed(void *cls, struct MHD_Connection *conn, void **con_cls,
     enum MHD_RequestTerminationCode toe)
 {
+	struct http *h = cls;
 	struct req *rq = *con_cls;
 	char path[160];
 
-	(void)cls;
 	(void)conn;
 	if (rq == NULL)
 		return;
+	metrics_count_request(rq->route != NULL ? rq->route->pattern : NULL,
+	    rq->route != NULL ? rq->route->method : rq->method, rq->status);
 	log_info("request method=%s path=%s status=%d bytes=%zu ms=%.3f "
 	    "id=%s%s", rq->method, printable(rq->path, path, sizeof(path)),
 	    rq->status, rq->out_len,
@@ -389,6 +493,7 @@ on_completed(void *cls, struct MHD_Connection *conn, void **con_cls,
 	    " aborted=yes");
 	req_free(rq);
 	*con_cls = NULL;
+	atomic_fetch_sub(&h->active, 1);
 }
 
 static void
@@ -508,8 +613,18 @@ out:
 void
 http_stop(struct http *h)
 {
+	struct timespec ts = { 0, 10 * 1000000L };
+	int i;
+
 	if (h == NULL)
 		return;
+	/*
+	 * Replies just released (long polls, what-ifs answered at shutdown,
+	 * ended event streams) get a moment to go out: libmicrohttpd closes
+	 * whatever is left without sending it.
+	 */
+	for (i = 0; i < STOP_GRACE_MS / 10 && atomic_load(&h->active) > 0; i++)
+		nanosleep(&ts, NULL);
 	if (h->mhd != NULL)
 		MHD_stop_daemon(h->mhd);
 	pthread_mutex_destroy(&h->defer_mu);

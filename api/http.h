@@ -23,6 +23,7 @@
 #include "../daemon/base/err.h"
 
 struct http;
+struct http_stream;
 struct published;
 struct route;
 struct service;
@@ -73,6 +74,8 @@ struct req {
 	char allow[64];		/* Allow header, "" if none */
 	int retry_after_s;	/* Retry-After header when > 0 */
 	char etag[32];		/* ETag header, "" if none */
+	struct http_stream *out_stream;	/* owned until sent: a streamed
+					   body (http_stream_new) */
 	/* deferred replies (http_defer) */
 	void *http;		/* borrowed: the server */
 	int defer;		/* enum in http.c, under the server's lock */
@@ -112,5 +115,33 @@ void http_complete(struct req *rq);
 
 /* Takes back an http_defer() whose hand-off failed (nothing queued). */
 void http_undefer(struct req *rq);
+
+/*
+ * Streamed replies (GET /v1/events).  The body is produced piecewise by
+ * fill(ctx, buf, max), on an HTTP thread, whenever the connection can
+ * take more: it returns the bytes it wrote (1..max), 0 when it has
+ * nothing now, or HTTP_FILL_END to end the body.  After a 0 the
+ * connection is suspended (no thread waits) until http_stream_wake() is
+ * called, from any thread; a wake that comes while fill() runs is not
+ * lost.  done(ctx) is called once, when the stream is freed (the
+ * response is gone, or it was never sent); after it returns fill() is not
+ * called again and the caller must not wake the stream any more.
+ */
+#define HTTP_FILL_END	(-1L)
+typedef long http_fill_fn(void *ctx, char *buf, size_t max);
+typedef void http_done_fn(void *ctx);
+
+/*
+ * Makes a stream for rq's connection and returns it; the handler then
+ * replies with it (reply_stream()).  The stream is rq's until sent.
+ */
+struct http_stream *http_stream_new(struct req *rq, http_fill_fn *fill,
+    http_done_fn *done, void *ctx);
+
+/* Says fill() may have something now: resumes a suspended stream. */
+void http_stream_wake(struct http_stream *s);
+
+/* Frees a stream never handed to libmicrohttpd (NULL ok): calls done. */
+void http_stream_free(struct http_stream *s);
 
 #endif /* WEFT_API_HTTP_H */

@@ -55,6 +55,8 @@ reply_clear(struct req *rq)
 		service_plan_unref(rq->out_plan);
 	else
 		free(rq->out);
+	http_stream_free(rq->out_stream);
+	rq->out_stream = NULL;
 	rq->out = NULL;
 	rq->out_len = 0;
 	rq->out_plan = NULL;
@@ -107,6 +109,23 @@ reply_plan(struct req *rq, struct published *pub, const char *text,
 	rq->out_len = len;
 	snprintf(rq->etag, sizeof(rq->etag), "\"%lld\"",
 	    (long long)pub->revision);
+}
+
+void
+reply_not_modified(struct req *rq, const char *etag)
+{
+	reply_clear(rq);
+	rq->status = 304;
+	snprintf(rq->etag, sizeof(rq->etag), "%s", etag);
+}
+
+void
+reply_stream(struct req *rq, const char *ctype, struct http_stream *s)
+{
+	reply_clear(rq);
+	rq->status = 200;
+	rq->ctype = ctype;
+	rq->out_stream = s;
 }
 
 /* Dumps j compactly with full precision; returns NULL on failure. */

@@ -17,6 +17,7 @@
 #include <stdint.h>
 
 struct err;
+struct http_stream;
 struct published;
 struct req;
 
@@ -59,6 +60,18 @@ void reply_text(struct req *rq, const char *ctype, char *text, size_t len);
  */
 void reply_plan(struct req *rq, struct published *pub, const char *text,
     size_t len);
+
+/*
+ * Replies 304 Not Modified with ETag etag (a quoted entity tag, at most
+ * 31 bytes) and no body.
+ */
+void reply_not_modified(struct req *rq, const char *etag);
+
+/*
+ * Replies 200 with Content-Type ctype (static) and a body streamed from
+ * s (api/http.h), which the reply takes over.
+ */
+void reply_stream(struct req *rq, const char *ctype, struct http_stream *s);
 
 /* Frees whatever reply rq holds (the completion path; NULL ok). */
 void reply_clear(struct req *rq);

@@ -49,6 +49,12 @@ static const struct route routes[] = {
 	    BODY_NONE, 0 },
 	{ "GET", "/v1/sweeps/{id}/links.csv", h_sweep_links_csv, BODY_NONE,
 	    0 },
+	{ "GET", "/", h_web_index, BODY_NONE, 0 },
+	{ "GET", "/ui/{file}", h_web_file, BODY_NONE, 0 },
+	{ "GET", "/v1/sweeps/{id}/report.svg", h_sweep_report_svg, BODY_NONE,
+	    0 },
+	{ "GET", "/metrics", h_metrics, BODY_NONE, 0 },
+	{ "GET", "/v1/events", h_events, BODY_NONE, 0 },
 };
 
 /*
@@ -100,6 +106,9 @@ routes_match(const char *method, const char *path, const struct route **rp,
 			continue;
 		if (strcmp(routes[i].method, method) == 0) {
 			*rp = &routes[i];
+			/* Allow goes only with a 405. */
+			if (allow_size > 0)
+				allow[0] = '\0';
 			return 0;
 		}
 		path_known = true;

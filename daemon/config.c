@@ -70,6 +70,17 @@ static const struct option_def {
 	{ "sweep_max_scenarios", OPT_LONG,
 	    offsetof(struct config, sweep_max_scenarios), "5000", 1, 10000000,
 	    "most scenarios one sweep may have" },
+	{ "long_poll_max", OPT_LONG, offsetof(struct config, long_poll_max),
+	    "1000", 0, 100000,
+	    "GET /v1/plan?wait= polls that may wait at once" },
+	{ "long_poll_max_s", OPT_LONG,
+	    offsetof(struct config, long_poll_max_s), "300", 1, 86400,
+	    "longest wait a long poll may ask for, s" },
+	{ "events_max", OPT_LONG, offsetof(struct config, events_max), "64",
+	    0, 10000, "GET /v1/events streams open at once" },
+	{ "events_keepalive_s", OPT_LONG,
+	    offsetof(struct config, events_keepalive_s), "15", 1, 3600,
+	    "keep-alive comment interval of event streams, s" },
 };
 
 #define N_OPTIONS	(sizeof(options) / sizeof(options[0]))

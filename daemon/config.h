@@ -25,6 +25,10 @@ struct config {
 	long whatif_queue;	/* what-ifs that may wait for a worker */
 	long whatif_time_limit_s;	/* per what-if or sweep scenario */
 	long sweep_max_scenarios;	/* largest sweep accepted */
+	long long_poll_max;	/* long polls waiting at once */
+	long long_poll_max_s;	/* longest wait a long poll may ask, s */
+	long events_max;	/* event streams open at once */
+	long events_keepalive_s;	/* event stream keep-alive interval */
 };
 
 /* Sets every field to "unset" (NULL strings, -1 numbers). */

@@ -142,6 +142,10 @@ main(int argc, char **argv)
 	sc.whatif_queue = (int)c.whatif_queue;
 	sc.whatif_time_limit_s = (double)c.whatif_time_limit_s;
 	sc.sweep_max_scenarios = c.sweep_max_scenarios;
+	sc.long_poll_max = (int)c.long_poll_max;
+	sc.long_poll_max_s = (double)c.long_poll_max_s;
+	sc.events_max = (int)c.events_max;
+	sc.events_keepalive_s = (int)c.events_keepalive_s;
 	if (service_start(&sc, &svc, &e) != 0)
 		fatal("database %s: %s", c.db, e.msg);
 
@@ -161,7 +165,11 @@ main(int argc, char **argv)
 	while (sigwait(&sigs, &sig) != 0 || (sig != SIGINT && sig != SIGTERM))
 		;
 	log_info("stopping signal=%d", sig);
-	/* Deferred requests are answered before the server stops. */
+	/*
+	 * Deferred requests (what-ifs, long polls) are answered and event
+	 * streams ended before the server stops: libmicrohttpd must not
+	 * be stopped with a connection still suspended.
+	 */
 	service_quiesce(svc);
 	http_stop(http);
 	service_stop(svc);

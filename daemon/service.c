@@ -12,7 +12,10 @@
  * whenever they are done; the last reference frees the plan.  A failed
  * solve leaves the last good plan published and records the error.  The
  * last SERVICE_PLANS_KEPT published plans also stay referenced in a ring
- * (under pub_mu), so GET /v1/plan/diff can compare with them.
+ * (under pub_mu), so GET /v1/plan/diff can compare with them.  After
+ * the swap, publish() tells the long polls waiting for a newer plan
+ * (planwait.c) and posts a "plan" event (events.c); a committed write
+ * posts a "model" event.  The monitoring counters (stats.h) live here.
  */
 
 #include <sys/stat.h>
@@ -25,13 +28,17 @@
 #include <unistd.h>
 
 #include "service.h"
+#include "events.h"
+#include "planwait.h"
 #include "solver_thread.h"
+#include "stats.h"
 #include "sweeps.h"
 #include "workers.h"
 #include "base/err.h"
 #include "base/log.h"
 #include "base/xalloc.h"
 #include "../api/codec_plan.h"
+#include "../api/metrics.h"
 
 struct service {
 	struct service_conf conf;
@@ -50,6 +57,9 @@ struct service {
 	struct seed_box *seed;		/* owned reference, under pub_mu */
 	struct workers *workers;	/* owned */
 	struct sweeps *sweeps;		/* owned */
+	struct planwait *waits;		/* owned: long polls */
+	struct events *events;		/* owned: change notifications */
+	struct stats stats;
 	bool quiesced;
 };
 
@@ -61,6 +71,7 @@ published_free(struct published *p)
 	free(p->summary_json);
 	free(p->routes_json);
 	free(p->loads_json);
+	free(p->metrics_text);
 	free(p);
 }
 
@@ -102,6 +113,31 @@ struct sweeps *
 service_sweeps(struct service *svc)
 {
 	return svc->sweeps;
+}
+
+struct stats *
+service_stats(struct service *svc)
+{
+	return &svc->stats;
+}
+
+struct events *
+service_events(struct service *svc)
+{
+	return svc->events;
+}
+
+int
+service_plan_wait(struct service *svc, int64_t after, double wait_ms,
+    planwait_fn *fn, void *ctx, bool *queuedp, struct err *e)
+{
+	return planwait_add(svc->waits, after, wait_ms, fn, ctx, queuedp, e);
+}
+
+int
+service_plan_waiters(struct service *svc)
+{
+	return planwait_count(svc->waits);
 }
 
 struct db *
@@ -212,8 +248,10 @@ publish(void *ctx, struct model *m, struct plan *p, struct engine_seed *sd,
 	struct published *pub, *old, *dropped;
 	struct seed_box *box, *old_box;
 	struct err re = { 0 };
+	struct event ev;
 
 	if (p == NULL) {
+		atomic_fetch_add(&svc->stats.solves_failed, 1);
 		pthread_mutex_lock(&svc->pub_mu);
 		svc->st.last_solve_failed = true;
 		svc->st.failed_model_revision = m != NULL ? m->revision : -1;
@@ -245,6 +283,8 @@ publish(void *ctx, struct model *m, struct plan *p, struct engine_seed *sd,
 		publish(ctx, NULL, NULL, NULL, &re);
 		return;
 	}
+	metrics_render_plan(m, p, pub->revision, &pub->metrics_text,
+	    &pub->metrics_len);
 	box = xcalloc(1, sizeof(*box));
 	atomic_init(&box->refs, 1);
 	atomic_fetch_add(&pub->refs, 1);
@@ -270,6 +310,16 @@ publish(void *ctx, struct model *m, struct plan *p, struct engine_seed *sd,
 	service_plan_unref(old);
 	service_plan_unref(dropped);
 	service_seed_unref(old_box);
+	stats_solve(&svc->stats, p->solve_ms);
+	planwait_published(svc->waits, pub->revision);
+	memset(&ev, 0, sizeof(ev));
+	ev.kind = EVENT_PLAN;
+	ev.revision = pub->revision;
+	ev.model_revision = pub->model_revision;
+	snprintf(ev.status, sizeof(ev.status), "%s",
+	    plan_status_str(p->status));
+	ev.max_util = p->max_util;
+	events_post(svc->events, &ev);
 	log_info("plan published revision=%lld model_revision=%lld status=%s "
 	    "max_util=%.6f carried_bps=%.6g unserved_bps=%.6g solve_ms=%.1f",
 	    (long long)pub->revision, (long long)pub->model_revision,
@@ -305,11 +355,20 @@ service_start(const struct service_conf *c, struct service **svcp,
 		goto fail;
 	}
 	svc->sweeps = sweeps_new(svc);
+	if ((r = planwait_start(c->long_poll_max, 0, &svc->waits)) != 0 ||
+	    (r = events_start(c->events_max, c->events_keepalive_s,
+	    &svc->events)) != 0) {
+		err_set(e, r, NULL, "cannot start the long-poll or event "
+		    "threads");
+		goto fail;
+	}
 	if ((r = solver_start(&sc, publish, svc, &svc->solver, e)) != 0)
 		goto fail;
 	*svcp = svc;
 	return 0;
 fail:
+	events_free(svc->events);
+	planwait_free(svc->waits);
 	sweeps_free(svc->sweeps);
 	workers_stop(svc->workers);
 	db_close(svc->db);
@@ -328,6 +387,9 @@ service_stop(struct service *svc)
 		return;
 	service_quiesce(svc);
 	solver_stop(svc->solver);
+	/* The solver thread may have published until solver_stop(). */
+	planwait_free(svc->waits);
+	events_free(svc->events);
 	service_seed_unref(svc->seed);
 	service_plan_unref(svc->cur);
 	for (i = 0; i < svc->kept_n; i++)
@@ -349,16 +411,25 @@ service_quiesce(struct service *svc)
 	svc->workers = NULL;
 	sweeps_free(svc->sweeps);
 	svc->sweeps = NULL;
+	planwait_stop(svc->waits);
+	events_stop(svc->events);
 }
 
 /* ---- writes: commit, then wake the solver ---- */
 
 static int
-wrote(struct service *svc, int r)
+wrote(struct service *svc, int r, const int64_t *revp)
 {
-	if (r == 0)
-		solver_notify(svc->solver);
-	return r;
+	struct event ev;
+
+	if (r != 0)
+		return r;
+	solver_notify(svc->solver);
+	memset(&ev, 0, sizeof(ev));
+	ev.kind = EVENT_MODEL;
+	ev.model_revision = *revp;
+	events_post(svc->events, &ev);
+	return 0;
 }
 
 int
@@ -370,7 +441,7 @@ service_put_topology(struct service *svc, const struct model *topo,
 	pthread_mutex_lock(&svc->db_mu);
 	r = db_put_topology(svc->db, topo, revp, e);
 	pthread_mutex_unlock(&svc->db_mu);
-	return wrote(svc, r);
+	return wrote(svc, r, revp);
 }
 
 int
@@ -382,7 +453,7 @@ service_put_matrix(struct service *svc, const char *name,
 	pthread_mutex_lock(&svc->db_mu);
 	r = db_put_matrix(svc->db, name, mx, revp, e);
 	pthread_mutex_unlock(&svc->db_mu);
-	return wrote(svc, r);
+	return wrote(svc, r, revp);
 }
 
 int
@@ -394,7 +465,7 @@ service_delete_matrix(struct service *svc, const char *name, int64_t *revp,
 	pthread_mutex_lock(&svc->db_mu);
 	r = db_delete_matrix(svc->db, name, revp, e);
 	pthread_mutex_unlock(&svc->db_mu);
-	return wrote(svc, r);
+	return wrote(svc, r, revp);
 }
 
 int
@@ -406,7 +477,7 @@ service_put_policy(struct service *svc, const struct policy *p,
 	pthread_mutex_lock(&svc->db_mu);
 	r = db_put_policy(svc->db, p, revp, e);
 	pthread_mutex_unlock(&svc->db_mu);
-	return wrote(svc, r);
+	return wrote(svc, r, revp);
 }
 
 int
@@ -418,7 +489,7 @@ service_patch_link(struct service *svc, const char *id,
 	pthread_mutex_lock(&svc->db_mu);
 	r = db_patch_link(svc->db, id, lp, revp, e);
 	pthread_mutex_unlock(&svc->db_mu);
-	return wrote(svc, r);
+	return wrote(svc, r, revp);
 }
 
 int
@@ -430,7 +501,7 @@ service_put_network(struct service *svc, const struct model *net,
 	pthread_mutex_lock(&svc->db_mu);
 	r = db_put_network(svc->db, net, matrix, revp, e);
 	pthread_mutex_unlock(&svc->db_mu);
-	return wrote(svc, r);
+	return wrote(svc, r, revp);
 }
 
 /* ---- reads ---- */

@@ -20,6 +20,7 @@
 #include <stdint.h>
 
 #include "engine/engine.h"
+#include "planwait.h"
 #include "../storage/db.h"
 
 struct err;
@@ -41,6 +42,9 @@ struct published {
 	size_t routes_len;
 	char *loads_json;	/* owned */
 	size_t loads_len;
+	char *metrics_text;	/* owned: the plan's part of GET /metrics
+				   (api/metrics.h) */
+	size_t metrics_len;
 };
 
 /* Service settings, from the config. */
@@ -53,6 +57,10 @@ struct service_conf {
 	int whatif_queue;	/* what-ifs that may wait for a worker */
 	double whatif_time_limit_s;	/* per what-if or sweep scenario */
 	long sweep_max_scenarios;	/* largest sweep accepted */
+	int long_poll_max;	/* long polls that may wait at once */
+	double long_poll_max_s;	/* longest wait a long poll may ask */
+	int events_max;		/* event streams open at once */
+	int events_keepalive_s;	/* keep-alive comment interval, s */
 };
 
 /*
@@ -154,6 +162,25 @@ const struct service_conf *service_conf(const struct service *svc);
 struct workers *service_workers(struct service *svc);
 struct sweeps *service_sweeps(struct service *svc);
 
+/* The monitoring counters (daemon/stats.h); live as long as svc. */
+struct stats *service_stats(struct service *svc);
+
+/* The change notifications (daemon/events.h); live as long as svc. */
+struct events *service_events(struct service *svc);
+
+/*
+ * Long polls (daemon/planwait.h): asks for fn(ctx, why) once a plan newer
+ * than after is published, or after wait_ms, or when the daemon stops.
+ * Returns 0 with *queuedp true (fn will be called, on another thread), or
+ * false (a newer plan exists now; fn is not called); ERR_BUSY when
+ * long_poll_max polls wait already or the daemon is stopping.
+ */
+int service_plan_wait(struct service *svc, int64_t after, double wait_ms,
+    planwait_fn *fn, void *ctx, bool *queuedp, struct err *e);
+
+/* Long polls waiting now. */
+int service_plan_waiters(struct service *svc);
+
 /*
  * The API connection, for the sweep runner's writes and reads (which do
  * not change the model revision): lock, use, unlock.
@@ -167,8 +194,9 @@ int service_load_matrix(struct service *svc, const char *name,
 
 /*
  * Stops what-ifs and sweeps: a running sweep is marked interrupted, queued
- * what-ifs are answered busy, worker threads end.  Called before the HTTP
- * server stops (a deferred request must be answered first), then
+ * what-ifs are answered busy, worker threads end; answers every long poll
+ * and ends every event stream.  Called before the HTTP server stops (a
+ * deferred request or a suspended stream must be answered first), then
  * service_stop().
  */
 void service_quiesce(struct service *svc);

@@ -8,7 +8,9 @@
 #include <time.h>
 
 #include "sweeps.h"
+#include "events.h"
 #include "service.h"
+#include "stats.h"
 #include "whatif.h"
 #include "workers.h"
 #include "base/err.h"
@@ -21,6 +23,8 @@
 #define FLUSH_MS	1000.0
 /* How long a cancel waits for the scenarios in progress, s. */
 #define CANCEL_WAIT_S	120
+/* Progress events of one sweep at least this far apart, ms. */
+#define EVENT_MS	250.0
 
 struct sweep;
 
@@ -50,6 +54,7 @@ struct sweep {
 	size_t *pend;		/* indices not yet written */
 	size_t n_pend;
 	double last_flush;
+	double last_event;	/* ms: the last progress event */
 	double *worst;		/* per arc of the live model */
 	long *worst_idx;
 };
@@ -69,6 +74,21 @@ now_ms(void)
 
 	clock_gettime(CLOCK_MONOTONIC, &ts);
 	return (double)ts.tv_sec * 1e3 + (double)ts.tv_nsec / 1e6;
+}
+
+/* Posts a "sweep" event: sw's progress in state. */
+static void
+post(struct sweep *sw, const char *state)
+{
+	struct event ev;
+
+	memset(&ev, 0, sizeof(ev));
+	ev.kind = EVENT_SWEEP;
+	ev.revision = sw->id;
+	snprintf(ev.status, sizeof(ev.status), "%s", state);
+	ev.done = (long)sw->done;
+	ev.total = (long)sw->n;
+	events_post(service_events(sw->owner->svc), &ev);
 }
 
 struct sweeps *
@@ -281,6 +301,7 @@ finish(struct sweep *sw)
 	char *report;
 	double elapsed_s = (now_ms() - sw->t0) / 1e3;
 	struct db *db;
+	int k;
 
 	state = sw->end_state != NULL ? sw->end_state : "done";
 	report = strcmp(state, "interrupted") == 0 ? NULL :
@@ -294,6 +315,10 @@ finish(struct sweep *sw)
 		    (long long)sw->id, e.msg);
 	service_db_unlock(svc);
 	free(report);
+	k = stats_sweep_state(state);
+	atomic_fetch_add(&service_stats(svc)->sweeps_ended[k >= 0 ? k :
+	    STATS_SWEEP_FAILED], 1);
+	post(sw, state);
 	log_info("sweep ended id=%lld kind=%s state=%s done=%zu total=%zu "
 	    "s=%.1f", (long long)sw->id, sw->kind, state, sw->done, sw->n,
 	    elapsed_s);
@@ -363,6 +388,8 @@ run(struct task *t, bool cancelled)
 	if (!skip)
 		solve(sw, st->idx, &p);
 
+	if (!skip)
+		atomic_fetch_add(&service_stats(s->svc)->sweep_scenarios, 1);
 	pthread_mutex_lock(&s->mu);
 	if (!skip) {
 		sw->have[st->idx] = true;
@@ -386,6 +413,11 @@ run(struct task *t, bool cancelled)
 		    (now - sw->t0) / 1e3);
 		sw->n_pend = 0;
 		sw->last_flush = now;
+	}
+	/* A few progress events a second at most; finish() posts the end. */
+	if (!skip && !last && now - sw->last_event >= EVENT_MS) {
+		sw->last_event = now;
+		post(sw, "running");
 	}
 	pthread_mutex_unlock(&s->mu);
 	plan_free(p);
@@ -470,8 +502,11 @@ sweeps_start(struct sweeps *s, const char *kind, double scale,
 	}
 	sw->t0 = now_ms();
 	sw->last_flush = sw->t0;
+	sw->last_event = sw->t0;
 	*idp = sw->id;
 	*totalp = (long)sw->n;
+	atomic_fetch_add(&service_stats(s->svc)->sweeps_started, 1);
+	post(sw, "running");
 	log_info("sweep started id=%lld kind=%s scenarios=%zu "
 	    "plan_revision=%lld", (long long)sw->id, kind, sw->n,
 	    (long long)box->pub->revision);

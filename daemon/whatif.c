@@ -5,6 +5,7 @@
 
 #include "whatif.h"
 #include "service.h"
+#include "stats.h"
 #include "workers.h"
 #include "base/log.h"
 #include "base/xalloc.h"
@@ -16,6 +17,7 @@ struct whatif_task {
 	double time_limit_s;
 	whatif_done_fn *done;
 	void *ctx;
+	struct stats *stats;	/* the service's */
 };
 
 int
@@ -45,12 +47,15 @@ run(struct task *t, bool cancelled)
 	if (cancelled) {
 		res->r = err_set(&res->e, ERR_BUSY, NULL,
 		    "the daemon is stopping");
+		atomic_fetch_add(&wt->stats->whatif[STATS_WHATIF_STOPPED], 1);
 	} else {
 		res->r = whatif_solve(res->box->sd, res->m, wt->time_limit_s,
 		    &res->p, &res->e);
 		if (res->r != 0)
 			log_warn("what-if failed code=%s msg=\"%s\"",
 			    err_word(res->r), res->e.msg);
+		atomic_fetch_add(&wt->stats->whatif[res->r == 0 ?
+		    STATS_WHATIF_OK : STATS_WHATIF_FAILED], 1);
 	}
 	wt->done(wt->ctx, res);
 	free(wt);
@@ -75,8 +80,10 @@ whatif_submit(struct service *svc, struct seed_box *box, struct model *m,
 	wt->time_limit_s = time_limit_s;
 	wt->done = done;
 	wt->ctx = ctx;
+	wt->stats = service_stats(svc);
 	r = w != NULL ? workers_submit(w, &wt->t, TASK_WHATIF) : ERR_BUSY;
 	if (r != 0) {
+		atomic_fetch_add(&wt->stats->whatif[STATS_WHATIF_BUSY], 1);
 		whatif_result_free(res);
 		free(wt);
 		return err_set(e, ERR_BUSY, NULL, "every worker is busy; "

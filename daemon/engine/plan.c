@@ -55,11 +55,14 @@ plan_finish(const struct model *m, struct plan *p, bool empty,
 		 * A carried rate short of the demand by rounding dust only
 		 * (the LP's tolerances, the decomposition's sums) is the whole
 		 * demand: scale its paths up, so a fully carried demand
-		 * reports exactly zero unserved.
+		 * reports exactly zero unserved.  Dust is relative to the
+		 * demand, or below what the LP resolves at all (its bound
+		 * tolerance is 1e-10 LP units).
 		 */
 		d = m->demands[k].rate_bps - rt->carried_bps;
 		if (rt->carried_bps > 0 && d > 0 &&
-		    d <= PLAN_SERVED_REL * m->demands[k].rate_bps) {
+		    (d <= PLAN_SERVED_REL * m->demands[k].rate_bps ||
+		    d <= PLAN_LP_RESOLUTION * p->scale_bps)) {
 			for (i = 0; i < rt->n_paths; i++)
 				rt->paths[i].rate_bps *=
 				    m->demands[k].rate_bps / rt->carried_bps;

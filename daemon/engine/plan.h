@@ -114,6 +114,9 @@ struct plan {
 
 /* Unserved traffic at or below this share of a demand counts as none. */
 #define PLAN_SERVED_REL	1e-9
+/* Nor does a shortfall at or below this many LP units (x scale_bps) of
+   a demand that is partly carried: below the LP's resolution. */
+#define PLAN_LP_RESOLUTION	1e-9
 
 /*
  * Completes a plan whose routes (paths and carried rates) a formulation

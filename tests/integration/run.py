@@ -533,7 +533,8 @@ def test_deep_nesting():
 
 
 def test_unknown_routes():
-    for path in ("/v1/nope", "/v1/plan/", "/v1/links", "/v2/health", "/", "/v1/matrices/a/b"):
+    for path in ("/v1/nope", "/v1/plan/", "/v1/links", "/v2/health", "/ui/", "/index.html",
+                 "/v1/matrices/a/b"):
         rejected("GET", path, None, 404, "not_found", "path")
     rejected("PUT", "/v1/nothing", TM, 404, "not_found", "path")
 

@@ -40,6 +40,10 @@ class Reply:
         return "Reply(%d, %r)" % (self.status, self.body[:300])
 
 
+class SolveFailed(RuntimeError):
+    """The daemon reported the solve of the awaited revision as failed."""
+
+
 class Daemon:
     """A weftd process (or an existing one) plus small HTTP helpers."""
 
@@ -113,6 +117,7 @@ class Daemon:
         With verify, the plan is also passed through the independent plan
         checker (tests/lib/plancheck.py) before it is returned."""
         end = time.time() + timeout
+        n = 0
         while time.time() < end:
             r = self.get("/v1/plan")
             if r.status == 200:
@@ -121,6 +126,16 @@ class Daemon:
                     if verify:
                         self.verify_plan()
                     return p
+            n += 1
+            if n % 10 == 0:
+                # A failed solve publishes nothing: /v1/health says so.
+                h = self.get("/v1/health")
+                if h.status == 200:
+                    s = h.json().get("solver", {})
+                    if s.get("last_solve_failed") and \
+                            s.get("failed_model_revision", 0) >= model_revision:
+                        raise SolveFailed("the solve of model revision %d failed: %s"
+                                          % (model_revision, s.get("last_error")))
             time.sleep(0.05)
         raise RuntimeError("no plan for model revision %d within %.0f s" % (model_revision, timeout))
 
