@@ -13,7 +13,7 @@ BUILD    ?= build
 PREFIX   ?= /usr/local
 SANITIZER ?=
 
-PKGS     := libmicrohttpd jansson sqlite3
+PKGS     := libmicrohttpd jansson sqlite3 libsystemd
 WARN     := -Wall -Wextra -Wpedantic -Wshadow -Wstrict-prototypes \
             -Wmissing-prototypes -Wformat=2 -Wno-format-nonliteral
 CFLAGS   ?= -O2 -g
@@ -24,12 +24,21 @@ endif
 ifneq ($(SANITIZER),)
 CFLAGS   += -fsanitize=$(SANITIZER) -fno-omit-frame-pointer
 LDFLAGS  += -fsanitize=$(SANITIZER)
+# UBSan only prints by default: make undefined behaviour fail the tests.
+export UBSAN_OPTIONS ?= halt_on_error=1:print_stacktrace=1
 endif
 PKG_CFLAGS := $(shell pkg-config --cflags $(PKGS) 2>/dev/null)
 PKG_LIBS   := $(shell pkg-config --libs $(PKGS) 2>/dev/null)
 LDLIBS   += $(PKG_LIBS) -lglpk -lm -pthread
 
 BASE_SRC    := $(wildcard daemon/base/*.c)
+# Fault injection points (daemon/base/fault.h) exist only in test builds:
+# make FAULTS=1 BUILD=build-faults (see check-faults).
+ifneq ($(FAULTS),)
+CFLAGS   += -DWEFT_FAULTS
+else
+BASE_SRC    := $(filter-out daemon/base/fault.c,$(BASE_SRC))
+endif
 ENGINE_SRC  := $(wildcard daemon/engine/*.c)
 STORAGE_SRC := $(wildcard storage/*.c)
 API_SRC     := $(wildcard api/*.c)
@@ -144,7 +153,13 @@ check-integration: $(WEFTD)
 check-reference: $(WEFTD)
 	WEFTD=$(abspath $(WEFTD)) $(PYTHON) tests/reference/run.py
 
-check: check-unit check-integration check-reference check-client check-monitoring check-browser check-openapi
+check: check-unit check-integration check-reference check-client check-monitoring check-browser check-openapi fuzz-ci check-durability check-faults check-security check-service check-asan-unit
+
+# Bearer tokens (weftd token), roles per route, the audit log, HTTPS with
+# a self-signed certificate (openssl) checked by curl.
+check-security: $(WEFTD)
+	WEFTD=$(abspath $(WEFTD)) $(PYTHON) tests/integration/security.py
+.PHONY: check-security
 
 # /metrics scraped by a real Prometheus, ETag/304, long polls, event streams.
 check-monitoring: $(WEFTD)
@@ -168,24 +183,136 @@ check-openapi: $(WEFTD)
 	WEFTD=$(abspath $(WEFTD)) $(PYTHON) tests/openapi/check.py
 .PHONY: check-openapi
 
+# ---- fuzzing: one libFuzzer target per parser of untrusted input ----
+# tests/fuzz/fuzz_<target>.c, built with clang into build-fuzz/ (coverage,
+# ASan, UBSan) by a make of its own.  make fuzz fuzzes each target for
+# FUZZ_SECONDS on a copy of its seed corpus (tests/fuzz/corpus/<target>/);
+# make fuzz-ci (part of check) first replays tests/fuzz/regress/ and the
+# seeds, then fuzzes FUZZ_CI_SECONDS each.  Crashes: build-fuzz/artifacts/.
+FUZZ_BUILD      := build-fuzz
+FUZZ_TARGETS    := json sndlib csv query config
+FUZZ_SECONDS    ?= 60
+FUZZ_CI_SECONDS ?= 10
+FUZZ_RSS_MB     ?= 2048
+FUZZ_DAEMON_OBJ := $(call obj,$(filter-out daemon/main.c,$(DAEMON_SRC)))
+
+$(BUILD)/fuzz/fuzz_%: $(BUILD)/obj/tests/fuzz/fuzz_%.o $(FUZZ_DAEMON_OBJ) \
+    $(LIBAPI) $(LIBSTORAGE) $(LIBENGINE) $(LIBBASE)
+	@mkdir -p $(dir $@)
+	$(CC) $(LDFLAGS) -fsanitize=fuzzer -o $@ $^ $(LDLIBS)
+
+fuzz-build:
+	$(MAKE) BUILD=$(FUZZ_BUILD) CC=clang WERROR= \
+	    SANITIZER=fuzzer-no-link,address,undefined \
+	    $(patsubst %,$(FUZZ_BUILD)/fuzz/fuzz_%,$(FUZZ_TARGETS))
+
+fuzz: fuzz-build
+	sh tests/fuzz/run.sh $(FUZZ_BUILD) $(FUZZ_SECONDS) $(FUZZ_RSS_MB) \
+	    $(FUZZ_TARGETS)
+
+fuzz-ci: fuzz-build
+	sh tests/fuzz/run.sh --replay $(FUZZ_BUILD) $(FUZZ_CI_SECONDS) \
+	    $(FUZZ_RSS_MB) $(FUZZ_TARGETS)
+.PHONY: fuzz fuzz-ci fuzz-build
+
+# ---- sanitizers and valgrind ----
+# The unit tests under ASan + UBSan (build-asan/): a minute or two, so part
+# of check; the integration suite under them takes longer (DEVELOPERS.md).
+check-asan-unit:
+	$(MAKE) BUILD=build-asan SANITIZER=address,undefined check-unit
+.PHONY: check-asan-unit
+
+# Not part of check (minutes each):
+# Threads under ThreadSanitizer: the integration suite (concurrent reads
+# during re-plans, bursts, what-ifs, sweeps, restarts; a few minutes) on
+# build-tsan/weftd; TSAN_CASES="concurrent whatif sweep" picks cases by
+# name.  GLPK is not instrumented: tests/sanitize/tsan.supp says what may be
+# suppressed and why.  Every daemon started writes its reports to
+# build-tsan/tsan-report.*.
+TSAN_CASES ?=
+check-tsan:
+	$(MAKE) BUILD=build-tsan SANITIZER=thread WERROR= build-tsan/weftd
+	rm -f build-tsan/tsan-report.*
+	TSAN_OPTIONS="suppressions=$(abspath tests/sanitize/tsan.supp) \
+	    second_deadlock_stack=1 log_path=$(abspath build-tsan)/tsan-report" \
+	    WEFTD=$(abspath build-tsan/weftd) \
+	    $(PYTHON) tests/integration/run.py $(TSAN_CASES)
+	@if ls build-tsan/tsan-report.* >/dev/null 2>&1; then \
+	    cat build-tsan/tsan-report.*; \
+	    echo "check-tsan: ThreadSanitizer reports above"; exit 1; \
+	else echo "check-tsan: no ThreadSanitizer reports"; fi
+
+# A whole daemon session (start, import, plan, what-if, sweep, SIGTERM)
+# under valgrind's memcheck; fails on memory errors and on definite or
+# indirect leaks.
+check-valgrind: $(WEFTD)
+	WEFTD=$(abspath $(WEFTD)) $(PYTHON) tests/sanitize/valgrind_session.py
+.PHONY: check-tsan check-valgrind
+
 # The benchmark (tests/bench/README.md): takes minutes; not part of check.
 # make bench BENCH_ARGS="--quick" (or instance names, --runs N, ...).
 bench: $(WEFTD)
 	WEFTD=$(abspath $(WEFTD)) $(PYTHON) tests/bench/run.py $(BENCH_ARGS)
 .PHONY: bench
 
+# SIGKILL at seeded random moments under a stream of writes: nothing
+# acknowledged is lost, the file passes SQLite's integrity check, the
+# restarted daemon plans (about a minute).
+check-durability: $(WEFTD)
+	WEFTD=$(abspath $(WEFTD)) $(PYTHON) tests/integration/durability.py
+
+# Injected database and solver faults, in a test build of its own with
+# the injection points compiled in (FAULTS=1, in $(FAULTS_BUILD)/), and a
+# read-only database file.
+FAULTS_BUILD ?= $(BUILD)-faults
+check-faults:
+	$(MAKE) FAULTS=1 BUILD=$(FAULTS_BUILD) $(FAULTS_BUILD)/weftd
+	WEFTD=$(abspath $(FAULTS_BUILD)/weftd) $(PYTHON) tests/integration/faults.py
+.PHONY: check-durability check-faults
+
+# Readers under load (wrk) while a writer changes links and the daemon
+# re-plans, against nginx serving the same bytes: not part of check
+# (sh deploy/install-deps.sh --load installs wrk and nginx).
+# make load LOAD_ARGS="--duration 5 --instance brain".
+load: $(WEFTD)
+	WEFTD=$(abspath $(WEFTD)) $(PYTHON) tests/load/run.py $(LOAD_ARGS)
+.PHONY: load
+
 demo: $(WEFTD)
 	sh deploy/demo.sh $(WEFTD)
 
+# make install [PREFIX=/usr/local] [DESTDIR=...] [SYSCONFDIR=/etc]: the
+# daemon, the client and its manual, the systemd unit (its paths rewritten
+# for PREFIX and SYSCONFDIR), weft.conf as an example, and as
+# SYSCONFDIR/weft/weft.conf only when there is none (an operator's file is
+# never overwritten).  docs/operations.md has the steps around it.
+SYSCONFDIR ?= /etc
+UNITDIR    ?= $(PREFIX)/lib/systemd/system
 install: $(WEFTD) $(WEFT)
-	install -d $(DESTDIR)$(PREFIX)/bin
+	install -d $(DESTDIR)$(PREFIX)/bin $(DESTDIR)$(PREFIX)/share/man/man1 \
+	    $(DESTDIR)$(PREFIX)/share/doc/weft $(DESTDIR)$(UNITDIR) \
+	    $(DESTDIR)$(SYSCONFDIR)/weft
 	install -m 755 $(WEFTD) $(DESTDIR)$(PREFIX)/bin/weftd
 	install -m 755 $(WEFT) $(DESTDIR)$(PREFIX)/bin/weft
-	install -d $(DESTDIR)$(PREFIX)/share/man/man1
 	install -m 644 docs/weft.1 $(DESTDIR)$(PREFIX)/share/man/man1/weft.1
+	install -m 644 deploy/weft.conf $(DESTDIR)$(PREFIX)/share/doc/weft/weft.conf
+	sed -e 's|/usr/local/bin/|$(PREFIX)/bin/|' \
+	    -e 's|/etc/weft/|$(SYSCONFDIR)/weft/|' deploy/weftd.service \
+	    > $(BUILD)/weftd.service
+	install -m 644 $(BUILD)/weftd.service $(DESTDIR)$(UNITDIR)/weftd.service
+	test -e $(DESTDIR)$(SYSCONFDIR)/weft/weft.conf || \
+	    install -m 644 deploy/weft.conf $(DESTDIR)$(SYSCONFDIR)/weft/weft.conf
+
+# The service: readiness and watchdog over a notify socket, SIGTERM during
+# a solve, online backup and restore, migrations from every earlier schema,
+# weft.conf against weftd -T, the unit (systemd-analyze), make install.
+check-service: $(WEFTD) $(WEFT)
+	WEFTD=$(abspath $(WEFTD)) MAKE="$(MAKE)" BUILD=$(BUILD) \
+	    $(PYTHON) tests/integration/service.py
+.PHONY: check-service
 
 clean:
-	rm -rf $(BUILD)
+	rm -rf $(BUILD) $(FAULTS_BUILD)
 
 FORCE:
 .PHONY: all check check-unit check-integration check-reference demo install clean FORCE

@@ -22,6 +22,7 @@
 #include "../daemon/service.h"
 #include "codec_diff.h"
 #include "http.h"
+#include "query.h"
 #include "reply.h"
 
 int
@@ -29,35 +30,27 @@ h_plan_diff(struct req *rq, struct err *e)
 {
 	struct published *cur = NULL, *old = NULL;
 	struct plandiff *d = NULL;
-	const char *s;
-	char *end, *text = NULL;
+	char *text = NULL;
 	size_t len = 0;
-	long long from;
-	int64_t oldest, newest;
+	int64_t from, oldest, newest;
 	int r;
 
-	if ((s = http_query(rq, "from")) == NULL)
-		return err_set(e, ERR_INVALID, "from", "the query parameter "
-		    "from (a plan revision) is required");
-	errno = 0;
-	from = strtoll(s, &end, 10);
-	if (s[0] == '\0' || *end != '\0' || errno != 0 || from < 1)
-		return err_set(e, ERR_INVALID, "from", "the query parameter "
-		    "from must be a plan revision, an integer >= 1");
+	if ((r = query_from(http_query(rq, "from"), &from, e)) != 0)
+		return r;
 	if ((cur = service_plan_ref(rq->svc)) == NULL)
 		return err_set(e, ERR_BUSY, "", "no plan has been published "
 		    "yet; retry shortly");
 	r = ERR_INTERNAL;
-	if ((old = service_plan_ref_rev(rq->svc, (int64_t)from)) == NULL) {
+	if ((old = service_plan_ref_rev(rq->svc, from)) == NULL) {
 		service_plans_kept(rq->svc, &oldest, &newest);
-		if (from > (long long)cur->revision)
+		if (from > cur->revision)
 			r = err_set(e, ERR_NOTFOUND, "from", "plan revision "
 			    "%lld has not been published; the newest is %lld",
-			    from, (long long)cur->revision);
+			    (long long)from, (long long)cur->revision);
 		else
 			r = err_set(e, ERR_NOTFOUND, "from", "plan revision "
 			    "%lld is no longer kept; the oldest kept is %lld",
-			    from, (long long)(oldest != 0 ? oldest :
+			    (long long)from, (long long)(oldest != 0 ? oldest :
 			    cur->revision));
 		goto out;
 	}

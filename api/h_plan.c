@@ -31,6 +31,7 @@
 #include "../daemon/engine/engine.h"
 #include "../daemon/service.h"
 #include "http.h"
+#include "query.h"
 #include "reply.h"
 
 enum which { SUMMARY, ROUTES, LOADS };
@@ -125,47 +126,6 @@ poll_done(void *ctx, enum planwait_why why)
 	http_complete(rq);
 }
 
-/* The query parameters of a long poll; *wait_sp 0 when none is asked. */
-static int
-poll_params(struct req *rq, double *wait_sp, int64_t *afterp, bool *has_afterp,
-    struct err *e)
-{
-	double max_s = service_conf(rq->svc)->long_poll_max_s;
-	const char *w, *a;
-	char *end;
-	long long x;
-
-	*wait_sp = 0;
-	*afterp = 0;
-	*has_afterp = false;
-	w = http_query(rq, "wait");
-	a = http_query(rq, "after");
-	if (w == NULL) {
-		if (a != NULL)
-			return err_set(e, ERR_INVALID, "after", "after is "
-			    "only valid with wait");
-		return 0;
-	}
-	errno = 0;
-	*wait_sp = strtod(w, &end);
-	if (w[0] == '\0' || *end != '\0' || errno != 0 ||
-	    !isfinite(*wait_sp) || *wait_sp <= 0 || *wait_sp > max_s)
-		return err_set(e, ERR_INVALID, "wait", "the query parameter "
-		    "wait must be a number of seconds above 0 and at most %g "
-		    "(long_poll_max_s)", max_s);
-	if (a != NULL) {
-		errno = 0;
-		x = strtoll(a, &end, 10);
-		if (a[0] < '0' || a[0] > '9' || *end != '\0' || errno != 0)
-			return err_set(e, ERR_INVALID, "after", "the query "
-			    "parameter after must be a plan revision (an "
-			    "integer >= 0)");
-		*afterp = x;
-		*has_afterp = true;
-	}
-	return 0;
-}
-
 int
 h_plan_summary(struct req *rq, struct err *e)
 {
@@ -177,7 +137,9 @@ h_plan_summary(struct req *rq, struct err *e)
 	bool has_after, queued;
 	int r;
 
-	if ((r = poll_params(rq, &wait_s, &after, &has_after, e)) != 0)
+	if ((r = query_poll(http_query(rq, "wait"), http_query(rq, "after"),
+	    service_conf(rq->svc)->long_poll_max_s, &wait_s, &after,
+	    &has_after, e)) != 0)
 		return r;
 	if (wait_s == 0)
 		return plan_text(rq, SUMMARY, inm, e);
@@ -220,30 +182,14 @@ int
 h_model_export(struct req *rq, struct err *e)
 {
 	enum export_format fmt;
-	const char *f, *s;
-	char *text = NULL, *end;
+	char *text = NULL;
 	size_t len = 0;
-	long stage = -1;
-	int r;
+	int r, stage;
 
-	f = http_query(rq, "format");
-	if (f == NULL || strcmp(f, "lp") == 0)
-		fmt = EXPORT_LP;
-	else if (strcmp(f, "mps") == 0)
-		fmt = EXPORT_MPS;
-	else
-		return err_set(e, ERR_INVALID, "format", "the query parameter "
-		    "format must be \"lp\" or \"mps\"");
-	if ((s = http_query(rq, "stage")) != NULL) {
-		errno = 0;
-		stage = strtol(s, &end, 10);
-		if (s[0] == '\0' || *end != '\0' || errno != 0 || stage < -1 ||
-		    stage >= PLAN_STAGES_MAX)
-			return err_set(e, ERR_INVALID, "stage", "the query "
-			    "parameter stage must be an integer from -1 (the "
-			    "last stage) to %d", PLAN_STAGES_MAX - 1);
-	}
-	if ((r = service_export_model(rq->svc, fmt, (int)stage, &text, &len,
+	if ((r = query_export(http_query(rq, "format"), http_query(rq,
+	    "stage"), &fmt, &stage, e)) != 0)
+		return r;
+	if ((r = service_export_model(rq->svc, fmt, stage, &text, &len,
 	    e)) != 0)
 		return r;
 	reply_text(rq, "text/plain; charset=utf-8", text, len);

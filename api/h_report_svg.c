@@ -348,29 +348,25 @@ h_sweep_report_svg(struct req *rq, struct err *e)
 	struct report *rep = NULL;
 	struct db *db;
 	FILE *f = NULL;
-	char *text = NULL, *end;
+	char *text = NULL;
 	size_t len = 0;
-	long long id;
+	int64_t id;
 	bool bad;
 	int r;
 
-	errno = 0;
-	id = strtoll(rq->param, &end, 10);
-	if (rq->param[0] < '0' || rq->param[0] > '9' || *end != '\0' ||
-	    errno != 0 || id <= 0)
-		return err_set(e, ERR_NOTFOUND, "id", "no sweep \"%s\"",
-		    rq->param);
+	if ((r = h_sweep_id(rq, &id, e)) != 0)
+		return r;
 	db = service_db_lock(rq->svc);
 	r = db_sweep_get(db, id, &s, e);
 	service_db_unlock(rq->svc);
 	if (r == ERR_NOTFOUND)
-		err_set(e, r, "id", "no sweep %lld", id);
+		err_set(e, r, "id", "no sweep %lld", (long long)id);
 	if (r != 0)
 		goto out;
 	if (s->report_json == NULL) {
 		r = err_set(e, ERR_NOTFOUND, "id", "sweep %lld has no report "
 		    "(state %s); a report is made when a sweep is done or "
-		    "cancelled", id, s->state);
+		    "cancelled", (long long)id, s->state);
 		goto out;
 	}
 	if ((r = codec_report_decode(s->report_json, &rep, e)) != 0)

@@ -17,9 +17,8 @@
 #include "http.h"
 #include "reply.h"
 
-/* The {id} segment: a positive decimal integer. */
-static int
-sweep_id(struct req *rq, int64_t *idp, struct err *e)
+int
+h_sweep_id(struct req *rq, int64_t *idp, struct err *e)
 {
 	char *end;
 	long long x;
@@ -136,7 +135,7 @@ h_sweep_get(struct req *rq, struct err *e)
 	int64_t id;
 	int r;
 
-	if ((r = sweep_id(rq, &id, e)) != 0)
+	if ((r = h_sweep_id(rq, &id, e)) != 0)
 		return r;
 	return reply_sweep(rq, id, e);
 }
@@ -150,7 +149,7 @@ h_sweep_cancel(struct req *rq, struct err *e)
 	int64_t id;
 	int r;
 
-	if ((r = sweep_id(rq, &id, e)) != 0 ||
+	if ((r = h_sweep_id(rq, &id, e)) != 0 ||
 	    (r = load(rq, id, &s, &rs, &n, e)) != 0)
 		return r;
 	db_sweep_results_free(rs, n);
@@ -169,7 +168,7 @@ h_sweep_delete(struct req *rq, struct err *e)
 	double el;
 	int r;
 
-	if ((r = sweep_id(rq, &id, e)) != 0)
+	if ((r = h_sweep_id(rq, &id, e)) != 0)
 		return r;
 	if (sweeps_progress(service_sweeps(rq->svc), id, &done, &total, &el))
 		return err_set(e, ERR_CONFLICT, "id", "sweep %lld is running; "
@@ -195,7 +194,7 @@ h_sweep_results_csv(struct req *rq, struct err *e)
 	char *text;
 	int r;
 
-	if ((r = sweep_id(rq, &id, e)) != 0 ||
+	if ((r = h_sweep_id(rq, &id, e)) != 0 ||
 	    (r = load(rq, id, &s, &rs, &n, e)) != 0)
 		return r;
 	text = codec_sweep_results_csv(rs, n, &len);
@@ -214,7 +213,7 @@ h_sweep_links_csv(struct req *rq, struct err *e)
 	char *text;
 	int r;
 
-	if ((r = sweep_id(rq, &id, e)) != 0 ||
+	if ((r = h_sweep_id(rq, &id, e)) != 0 ||
 	    (r = load(rq, id, &s, NULL, NULL, e)) != 0)
 		return r;
 	text = codec_sweep_links_csv(s, &len);

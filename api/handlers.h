@@ -11,6 +11,8 @@
  * service reports the write committed.
  */
 
+#include <stdint.h>
+
 struct err;
 struct req;
 
@@ -59,6 +61,13 @@ int h_sweep_cancel(struct req *rq, struct err *e);
 int h_sweep_delete(struct req *rq, struct err *e);
 int h_sweep_results_csv(struct req *rq, struct err *e);
 int h_sweep_links_csv(struct req *rq, struct err *e);
+
+/*
+ * Not a route: reads the {id} segment of a sweep route (rq->param), a
+ * positive decimal integer, into *idp.  Returns 0, or ERR_NOTFOUND with
+ * detail in e ("no sweep ...", where "id").
+ */
+int h_sweep_id(struct req *rq, int64_t *idp, struct err *e);
 
 /* h_web.c */
 int h_web_index(struct req *rq, struct err *e);

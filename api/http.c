@@ -8,6 +8,7 @@
  * never touched by two threads.  libmicrohttpd calls on_request() several
  * times per request:
  *   1. first, with the headers: the req is made, the route matched, the
+ *      bearer token checked against the route's role (auth.c), the
  *      Content-Type and Content-Length checked.  A failure here is kept in
  *      req->early and replied to at step 3, unless the client waits for
  *      "100 Continue", in which case it is replied to at once and the body
@@ -17,6 +18,10 @@
  *      still reads its 413; past DISCARD_MAX the connection is closed.
  *   3. last, with no data: the handler runs (or the early error is
  *      replied) and the reply is queued.
+ * send_reply() records every request to a write route (operate or
+ * admin), accepted or refused, in the audit log before queueing the
+ * reply; the model revision comes from the service
+ * (service_write_revision_take(), around the handler on this thread).
  * on_completed() counts and logs the request line and frees the req.
  * Reply bodies are handed to libmicrohttpd without copying: owned text is
  * freed by its free callback, a borrowed plan text drops its plan
@@ -30,6 +35,7 @@
 #include <sys/socket.h>
 #include <sys/types.h>
 
+#include <errno.h>
 #include <netdb.h>
 #include <pthread.h>
 #include <stdarg.h>
@@ -43,6 +49,8 @@
 #include <microhttpd.h>
 
 #include "http.h"
+#include "auth.h"
+#include "../daemon/base/clock.h"
 #include "../daemon/base/err.h"
 #include "../daemon/base/log.h"
 #include "../daemon/base/xalloc.h"
@@ -80,19 +88,13 @@ struct http {
 	unsigned boot;		/* start time, makes request ids unique */
 	atomic_ullong n_req;	/* requests so far */
 	atomic_int active;	/* requests not yet completed */
+	struct auth *auth;	/* owned: the token checker */
+	char *tls_cert;		/* owned: PEM text, NULL without TLS */
+	char *tls_key;		/* owned: PEM text, wiped when freed */
 };
 
 /* How long http_stop() lets requests in flight finish, ms. */
 #define STOP_GRACE_MS	2000
-
-static uint64_t
-now_ns(void)
-{
-	struct timespec ts;
-
-	clock_gettime(CLOCK_MONOTONIC, &ts);
-	return (uint64_t)ts.tv_sec * 1000000000u + (uint64_t)ts.tv_nsec;
-}
 
 const char *
 http_query(struct req *rq, const char *key)
@@ -136,7 +138,7 @@ req_new(struct http *h, struct MHD_Connection *conn, const char *url,
 	rq = xcalloc(1, sizeof(*rq));
 	atomic_fetch_add(&h->active, 1);
 	rq->http = h;
-	rq->start_ns = now_ns();
+	rq->start_ms = clock_ms();
 	rq->svc = h->svc;
 	rq->conn = conn;
 	snprintf(rq->method, sizeof(rq->method), "%s", method);
@@ -146,6 +148,15 @@ req_new(struct http *h, struct MHD_Connection *conn, const char *url,
 
 	r = routes_match(rq->method, rq->path, &rq->route, rq->param,
 	    sizeof(rq->param), rq->allow, sizeof(rq->allow), &rq->early_e);
+	if (r != 0) {
+		rq->early = r;
+		return rq;
+	}
+	/* Before anything else about the request: a refused client learns
+	   nothing of limits or media types. */
+	r = auth_check(h->auth, rq->route->role,
+	    http_header(rq, MHD_HTTP_HEADER_AUTHORIZATION), &rq->who,
+	    &rq->early_e);
 	if (r != 0) {
 		rq->early = r;
 		return rq;
@@ -283,6 +294,57 @@ stream_free(void *cls)
 	http_stream_free(cls);
 }
 
+/*
+ * Records a write (a route that needs operate or admin), accepted or
+ * refused, in the audit log, before its reply goes out.
+ */
+static void
+audit(struct MHD_Connection *conn, struct req *rq)
+{
+	const union MHD_ConnectionInfo *ci;
+	struct db_audit a;
+	struct err e = { 0 };
+	char client[64] = "";
+	enum auth_role need;
+
+	if (rq->route == NULL)
+		return;
+	need = rq->route->role == AUTH_UNSET ? AUTH_ADMIN : rq->route->role;
+	if (need < AUTH_OPERATE)
+		return;
+	ci = MHD_get_connection_info(conn,
+	    MHD_CONNECTION_INFO_CLIENT_ADDRESS);
+	if (ci != NULL && ci->client_addr != NULL &&
+	    getnameinfo(ci->client_addr, ci->client_addr->sa_family ==
+	    AF_INET6 ? sizeof(struct sockaddr_in6) :
+	    sizeof(struct sockaddr_in), client, sizeof(client), NULL, 0,
+	    NI_NUMERICHOST) != 0)
+		client[0] = '\0';
+	memset(&a, 0, sizeof(a));
+	a.who = rq->who.who;
+	a.token_id = rq->who.token_id;
+	a.client = client;
+	a.method = rq->method;
+	a.path = rq->path;
+	a.status = rq->status;
+	a.model_revision = rq->model_revision;
+	a.request_id = rq->id;
+	if (service_audit(rq->svc, &a, &e) != 0)
+		log_err("write not recorded in the audit log id=%s "
+		    "status=%d msg=\"%s\"", rq->id, rq->status, e.msg);
+}
+
+/* The WWW-Authenticate challenge of a 401 or 403 (RFC 6750, 3). */
+static const char *
+challenge(const struct req *rq)
+{
+	if (rq->status == 403)
+		return "Bearer realm=\"weft\", error=\"insufficient_scope\"";
+	if (rq->who.bad_token)
+		return "Bearer realm=\"weft\", error=\"invalid_token\"";
+	return "Bearer realm=\"weft\"";
+}
+
 /* Step 3: turns rq's reply into a response and queues it. */
 static enum MHD_Result
 send_reply(struct MHD_Connection *conn, struct req *rq)
@@ -298,6 +360,7 @@ send_reply(struct MHD_Connection *conn, struct req *rq)
 		err_set(&e, ERR_INTERNAL, NULL, "handler set no reply");
 		reply_error(rq, ERR_INTERNAL, &e);
 	}
+	audit(conn, rq);
 	streamed = rq->out_stream != NULL;
 	if (streamed) {
 		resp = MHD_create_response_from_callback(MHD_SIZE_UNKNOWN,
@@ -328,6 +391,9 @@ send_reply(struct MHD_Connection *conn, struct req *rq)
 		    rq->allow);
 	if (rq->etag[0] != '\0')
 		MHD_add_response_header(resp, MHD_HTTP_HEADER_ETAG, rq->etag);
+	if (rq->status == 401 || rq->status == 403)
+		MHD_add_response_header(resp,
+		    MHD_HTTP_HEADER_WWW_AUTHENTICATE, challenge(rq));
 	if (rq->retry_after_s > 0) {
 		snprintf(num, sizeof(num), "%d", rq->retry_after_s);
 		MHD_add_response_header(resp, MHD_HTTP_HEADER_RETRY_AFTER,
@@ -376,6 +442,21 @@ http_complete(struct req *rq)
 }
 
 /*
+ * Whether the handler deferred rq.  Read under defer_mu: once deferred,
+ * the thread that completes rq may be writing rq->defer already.
+ */
+static bool
+deferred(struct http *h, struct req *rq)
+{
+	bool d;
+
+	pthread_mutex_lock(&h->defer_mu);
+	d = rq->defer != DEFER_NONE;
+	pthread_mutex_unlock(&h->defer_mu);
+	return d;
+}
+
+/*
  * After the handler deferred: suspends the connection, unless the reply
  * is already there.
  */
@@ -392,6 +473,21 @@ suspend(struct http *h, struct MHD_Connection *conn, struct req *rq)
 	MHD_suspend_connection(conn);
 	pthread_mutex_unlock(&h->defer_mu);
 	return MHD_YES;
+}
+
+/*
+ * Runs rq's handler on this thread, noting the model revision its write
+ * made (for the audit log).
+ */
+static int
+run_handler(struct req *rq, struct err *e)
+{
+	int r;
+
+	(void)service_write_revision_take();
+	r = rq->route->fn(rq, e);
+	rq->model_revision = service_write_revision_take();
+	return r;
 }
 
 static enum MHD_Result
@@ -443,8 +539,8 @@ on_request(void *cls, struct MHD_Connection *conn, const char *url,
 		return MHD_YES;
 	if (rq->early != 0) {
 		reply_error(rq, rq->early, &rq->early_e);
-	} else if ((r = rq->route->fn(rq, &e)) != 0) {
-		if (rq->defer != DEFER_NONE) {
+	} else if ((r = run_handler(rq, &e)) != 0) {
+		if (deferred(h, rq)) {
 			/* A handler defers only on success. */
 			log_err("handler failed after deferring id=%s", rq->id);
 			abort();
@@ -452,7 +548,7 @@ on_request(void *cls, struct MHD_Connection *conn, const char *url,
 		if (e.code == 0)
 			err_set(&e, r, NULL, "%s", err_str(r));
 		reply_error(rq, r, &e);
-	} else if (rq->defer != DEFER_NONE) {
+	} else if (deferred(h, rq)) {
 		return suspend(h, conn, rq);
 	}
 	rq->sent = true;
@@ -488,7 +584,7 @@ on_completed(void *cls, struct MHD_Connection *conn, void **con_cls,
 	log_info("request method=%s path=%s status=%d bytes=%zu ms=%.3f "
 	    "id=%s%s", rq->method, printable(rq->path, path, sizeof(path)),
 	    rq->status, rq->out_len,
-	    (double)(now_ns() - rq->start_ns) / 1e6, rq->id,
+	    clock_ms() - rq->start_ms, rq->id,
 	    toe == MHD_REQUEST_TERMINATED_COMPLETED_OK ? "" :
 	    " aborted=yes");
 	req_free(rq);
@@ -558,10 +654,70 @@ bad:
 	    "or [address]:port", listen);
 }
 
+/* The checker's loader: the service's list of valid tokens. */
+static int
+load_tokens(void *ctx, struct db_token **tp, size_t *np, struct err *e)
+{
+	return service_tokens(ctx, tp, np, e);
+}
+
+#define PEM_MAX	((size_t)1 << 20)	/* bytes of a TLS certificate or key */
+
+/* Reads the PEM file at path into a new string *textp. */
+static int
+read_pem(const char *path, char **textp, struct err *e)
+{
+	char *text;
+	size_t n;
+	FILE *f;
+	int r = ERR_IO;
+
+	*textp = NULL;
+	if ((f = fopen(path, "r")) == NULL)
+		return err_set(e, ERR_IO, "tls", "cannot open %s: %s", path,
+		    strerror(errno));
+	text = xmalloc(PEM_MAX + 1);
+	n = fread(text, 1, PEM_MAX + 1, f);
+	if (ferror(f))
+		err_set(e, ERR_IO, "tls", "cannot read %s", path);
+	else if (n > PEM_MAX)
+		err_set(e, ERR_IO, "tls", "%s is larger than %zu bytes", path,
+		    PEM_MAX);
+	else if (n == 0)
+		err_set(e, ERR_IO, "tls", "%s is empty", path);
+	else
+		r = 0;
+	fclose(f);
+	if (r != 0) {
+		free(text);
+		return r;
+	}
+	text[n] = '\0';
+	*textp = text;
+	return 0;
+}
+
+/* Frees the PEM texts, wiping the key first. */
+static void
+free_pems(struct http *h)
+{
+	if (h->tls_key != NULL)
+		explicit_bzero(h->tls_key, strlen(h->tls_key));
+	free(h->tls_key);
+	free(h->tls_cert);
+	h->tls_key = h->tls_cert = NULL;
+}
+
 int
 http_start(const struct http_conf *c, struct service *svc, struct http **hp,
     struct err *e)
 {
+	struct MHD_OptionItem tls[3] = {
+		{ MHD_OPTION_END, 0, NULL },
+		{ MHD_OPTION_END, 0, NULL },
+		{ MHD_OPTION_END, 0, NULL },
+	};
+	struct auth_conf ac;
 	struct http *h = NULL;
 	struct addrinfo *ai = NULL;
 	unsigned flags;
@@ -580,6 +736,34 @@ http_start(const struct http_conf *c, struct service *svc, struct http **hp,
 	    MHD_USE_ERROR_LOG | MHD_ALLOW_SUSPEND_RESUME;
 	if (ai->ai_family == AF_INET6)
 		flags |= MHD_USE_IPv6;
+	if ((c->tls_cert != NULL) != (c->tls_key != NULL)) {
+		r = err_set(e, ERR_INVALID, "tls", "tls_cert and tls_key go "
+		    "together");
+		goto out;
+	}
+	if (c->tls_cert != NULL) {
+		if (MHD_is_feature_supported(MHD_FEATURE_TLS) != MHD_YES) {
+			r = err_set(e, ERR_INVALID, "tls", "this "
+			    "libmicrohttpd was built without TLS");
+			goto out;
+		}
+		if ((r = read_pem(c->tls_cert, &h->tls_cert, e)) != 0 ||
+		    (r = read_pem(c->tls_key, &h->tls_key, e)) != 0)
+			goto out;
+		flags |= MHD_USE_TLS;
+		tls[0].option = MHD_OPTION_HTTPS_MEM_CERT;
+		tls[0].ptr_value = h->tls_cert;
+		tls[1].option = MHD_OPTION_HTTPS_MEM_KEY;
+		tls[1].ptr_value = h->tls_key;
+	}
+	memset(&ac, 0, sizeof(ac));
+	ac.mode = c->auth_mode;
+	ac.reads = c->auth_reads;
+	ac.loopback_only = auth_is_loopback(ai->ai_addr);
+	ac.load = load_tokens;
+	ac.load_ctx = svc;
+	if ((r = auth_new(&ac, &h->auth, e)) != 0)
+		goto out;
 	/* The logger goes first, so it sees problems with the others. */
 	h->mhd = MHD_start_daemon(flags, 0, NULL, NULL, on_request, h,
 	    MHD_OPTION_EXTERNAL_LOGGER, mhd_log, h,
@@ -590,22 +774,28 @@ http_start(const struct http_conf *c, struct service *svc, struct http **hp,
 	    MHD_OPTION_PER_IP_CONNECTION_LIMIT, c->per_ip_limit,
 	    MHD_OPTION_CONNECTION_TIMEOUT, c->timeout_s,
 	    MHD_OPTION_NOTIFY_COMPLETED, on_completed, h,
+	    MHD_OPTION_ARRAY, tls,
 	    MHD_OPTION_END);
 	if (h->mhd == NULL) {
-		r = err_set(e, ERR_IO, "listen", "cannot serve HTTP on %s",
-		    c->listen);
+		r = err_set(e, ERR_IO, "listen", "cannot serve HTTP%s on %s",
+		    c->tls_cert != NULL ? "S" : "", c->listen);
 		goto out;
 	}
-	log_info("http listening addr=%s threads=%u max_body=%zu", c->listen,
-	    c->threads, c->max_body_bytes);
+	log_info("http listening addr=%s threads=%u max_body=%zu tls=%s "
+	    "loopback=%s tokens=%zu", c->listen, c->threads,
+	    c->max_body_bytes, c->tls_cert != NULL ? "yes" : "no",
+	    ac.loopback_only ? "yes" : "no", auth_tokens(h->auth));
 	*hp = h;
 	h = NULL;
 	r = 0;
 out:
 	if (ai != NULL)
 		freeaddrinfo(ai);
-	if (h != NULL)
+	if (h != NULL) {
+		auth_free(h->auth);
+		free_pems(h);
 		pthread_mutex_destroy(&h->defer_mu);
+	}
 	free(h);
 	return r;
 }
@@ -627,6 +817,8 @@ http_stop(struct http *h)
 		nanosleep(&ts, NULL);
 	if (h->mhd != NULL)
 		MHD_stop_daemon(h->mhd);
+	auth_free(h->auth);
+	free_pems(h);
 	pthread_mutex_destroy(&h->defer_mu);
 	free(h);
 }

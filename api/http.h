@@ -21,6 +21,7 @@
 #include <stdint.h>
 
 #include "../daemon/base/err.h"
+#include "auth.h"
 
 struct http;
 struct http_stream;
@@ -38,6 +39,12 @@ struct http_conf {
 				   0: no limit */
 	unsigned timeout_s;	/* idle connection timeout, s; 0: none */
 	unsigned threads;	/* worker threads, >= 1 */
+	enum auth_mode auth_mode;	/* when tokens are enforced */
+	enum auth_reads auth_reads;	/* when reads need a token */
+	const char *tls_cert;	/* PEM certificate (chain) file, or NULL
+				   for plain HTTP; borrowed during
+				   http_start */
+	const char *tls_key;	/* its PEM private key file, or NULL */
 };
 
 #define REQ_ID_MAX	32	/* request id text, with its NUL */
@@ -62,7 +69,11 @@ struct req {
 	size_t body_seen;	/* bytes received, kept or not */
 	int early;		/* error decided before the body: 0 or code */
 	struct err early_e;	/* its detail */
-	uint64_t start_ns;	/* monotonic clock at arrival */
+	double start_ms;	/* clock_ms() at arrival */
+
+	struct auth_who who;	/* who sent it (api/auth.h), set with the
+				   route */
+	int64_t model_revision;	/* made by the handler, 0: none (audit) */
 
 	/* reply */
 	int status;		/* HTTP status; 0 while no reply is set */
@@ -84,9 +95,14 @@ struct req {
 
 /*
  * Starts the server on c->listen with c->threads worker threads; svc is
- * borrowed until http_stop().  Returns 0 and the server in *hp, or
- * ERR_INVALID (bad listen address, with where "listen") / ERR_IO (cannot
- * bind) with detail in e.  Called once, by main.
+ * borrowed until http_stop().  With c->tls_cert and c->tls_key it serves
+ * HTTPS only.  Every request is checked against its route's role
+ * (api/auth.h) before its body is read; every write is recorded in the
+ * audit log before its reply is sent.  Returns 0 and the server in *hp,
+ * or ERR_INVALID (bad listen address, with where "listen"; TLS asked of a
+ * libmicrohttpd without it, or only one of the two files, where "tls") /
+ * ERR_IO (cannot bind; cannot read a TLS file) / the token list's error,
+ * with detail in e.  Called once, by main.
  */
 int http_start(const struct http_conf *c, struct service *svc,
     struct http **hp, struct err *e);

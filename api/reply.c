@@ -34,6 +34,8 @@ static const struct {
 	int status;
 } statuses[] = {
 	{ ERR_INVALID, 400 },
+	{ ERR_UNAUTHORIZED, 401 },
+	{ ERR_FORBIDDEN, 403 },
 	{ ERR_NOTFOUND, 404 },
 	{ ERR_METHOD, 405 },
 	{ ERR_CONFLICT, 409 },

@@ -23,11 +23,13 @@ struct req;
 
 /*
  * Replies with error r: status from the table (ERR_INVALID 400,
- * ERR_NOTFOUND 404, ERR_METHOD 405 with Allow from rq->allow,
- * ERR_CONFLICT 409, ERR_TOOBIG 413, ERR_MEDIATYPE 415, ERR_BUSY and
- * ERR_TIMEOUT 503 with Retry-After, anything else 500).  code is
- * err_word(r); message and where come from e (may be NULL).  A 5xx reply
- * says only "internal error" and the request id; the detail is logged.
+ * ERR_UNAUTHORIZED 401, ERR_FORBIDDEN 403 (http.c adds their
+ * WWW-Authenticate), ERR_NOTFOUND 404, ERR_METHOD 405 with Allow from
+ * rq->allow, ERR_CONFLICT 409, ERR_TOOBIG 413, ERR_MEDIATYPE 415,
+ * ERR_BUSY and ERR_TIMEOUT 503 with Retry-After, anything else 500).
+ * code is err_word(r); message and where come from e (may be NULL).  A
+ * 5xx reply says only "internal error" and the request id; the detail is
+ * logged.
  */
 void reply_error(struct req *rq, int r, const struct err *e);
 

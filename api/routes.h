@@ -10,11 +10,16 @@
  * segments plus at most one "{name}" segment, captured into req->param
  * (1..REQ_PARAM_MAX-1 bytes, no '/').  Each row also says what body the
  * route takes: none, JSON (Content-Type application/json) or a file
- * (text/plain, text/csv, application/octet-stream), and its size limit.
+ * (text/plain, text/csv, application/octet-stream), its size limit, and
+ * the role a bearer token needs for it (api/auth.h: reads read, the
+ * operator's writes operate, topology, policy and import admin; the map
+ * page's files none).
  */
 
 #include <stdbool.h>
 #include <stddef.h>
+
+#include "auth.h"
 
 struct err;
 struct req;
@@ -40,6 +45,7 @@ struct route {
 	route_fn *fn;
 	enum route_body body;
 	size_t body_max;	/* bytes, or ROUTE_BODY_CONF */
+	enum auth_role role;	/* the role a token needs (api/auth.h) */
 };
 
 /*

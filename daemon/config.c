@@ -81,9 +81,20 @@ static const struct option_def {
 	{ "events_keepalive_s", OPT_LONG,
 	    offsetof(struct config, events_keepalive_s), "15", 1, 3600,
 	    "keep-alive comment interval of event streams, s" },
+	{ "auth", OPT_STR, offsetof(struct config, auth), "auto", 0, 0,
+	    "when tokens are needed: auto (once one exists, or off "
+	    "loopback) or always" },
+	{ "auth_reads", OPT_STR, offsetof(struct config, auth_reads), "auto",
+	    0, 0, "whether reads need a token: auto (off loopback), yes, no" },
+	{ "tls_cert", OPT_STR, offsetof(struct config, tls_cert), "", 0, 0,
+	    "PEM certificate file: serve HTTPS (with tls_key)" },
+	{ "tls_key", OPT_STR, offsetof(struct config, tls_key), "", 0, 0,
+	    "PEM private key file of tls_cert" },
 };
 
 #define N_OPTIONS	(sizeof(options) / sizeof(options[0]))
+#define CONFIG_LINE_MAX	1024	/* bytes of one line with its newline */
+#define CONFIG_FILE_MAX	(1 << 20)	/* bytes of a config file */
 
 static char **
 str_field(struct config *c, const struct option_def *o)
@@ -179,25 +190,90 @@ config_set(struct config *c, const char *key, const char *value,
 	return set_value(c, o, value, false, where, e);
 }
 
-int
-config_read_file(struct config *c, const char *path, struct err *e)
+/*
+ * Reads a file of at most CONFIG_FILE_MAX bytes into a new buffer (*textp,
+ * the caller frees it) of *lenp bytes.
+ */
+static int
+slurp(const char *path, char **textp, size_t *lenp, struct err *e)
 {
-	const struct option_def *o;
-	char line[1024], where[ERR_WHERE_MAX];
-	char *key, *value, *p;
+	char *text = NULL;
+	size_t len = 0, cap = 0, n;
 	FILE *f;
-	int lineno = 0, r = 0;
+	int r;
 
+	*textp = NULL;
+	*lenp = 0;
 	if ((f = fopen(path, "r")) == NULL)
 		return err_set(e, ERR_IO, path, "cannot open: %s",
 		    strerror(errno));
-	while (fgets(line, sizeof(line), f) != NULL) {
-		lineno++;
-		snprintf(where, sizeof(where), "%s:%d", path, lineno);
-		if (strchr(line, '\n') == NULL && !feof(f)) {
-			r = err_set(e, ERR_INVALID, where, "line too long");
-			break;
+	for (;;) {
+		if (len == cap) {
+			cap = cap == 0 ? 4096 : cap * 2;
+			text = xreallocarray(text, cap, 1);
 		}
+		if ((n = fread(text + len, 1, cap - len, f)) == 0)
+			break;
+		if ((len += n) > CONFIG_FILE_MAX) {
+			r = err_set(e, ERR_INVALID, path, "larger than %d "
+			    "bytes", CONFIG_FILE_MAX);
+			goto out;
+		}
+	}
+	if (ferror(f)) {
+		r = err_set(e, ERR_IO, path, "cannot read: %s",
+		    strerror(errno));
+		goto out;
+	}
+	*textp = text;
+	*lenp = len;
+	text = NULL;
+	r = 0;
+out:
+	free(text);
+	fclose(f);
+	return r;
+}
+
+int
+config_read_file(struct config *c, const char *path, struct err *e)
+{
+	char *text;
+	size_t len;
+	int r;
+
+	if ((r = slurp(path, &text, &len, e)) != 0)
+		return r;
+	r = config_read_text(c, text, len, path, e);
+	free(text);
+	return r;
+}
+
+int
+config_read_text(struct config *c, const char *text, size_t len,
+    const char *name, struct err *e)
+{
+	const struct option_def *o;
+	char line[CONFIG_LINE_MAX], where[ERR_WHERE_MAX];
+	const char *nl;
+	char *key, *value, *p;
+	size_t pos = 0, n, lineno = 0;
+	int r;
+
+	while (pos < len) {
+		lineno++;
+		snprintf(where, sizeof(where), "%s:%zu", name, lineno);
+		nl = memchr(text + pos, '\n', len - pos);
+		n = (nl != NULL ? (size_t)(nl - text) : len) - pos;
+		/* As fgets() into CONFIG_LINE_MAX bytes with the newline. */
+		if (n >= sizeof(line) - 1)
+			return err_set(e, ERR_INVALID, where, "line too long");
+		if (memchr(text + pos, '\0', n) != NULL)
+			return err_set(e, ERR_INVALID, where, "NUL byte in "
+			    "line");
+		memcpy(line, text + pos, n);
+		line[n] = '\0';
+		pos += n + (nl != NULL ? 1 : 0);
 		if ((p = strchr(line, '#')) != NULL)
 			*p = '\0';
 		key = line;
@@ -215,16 +291,13 @@ config_read_file(struct config *c, const char *path, struct err *e)
 		p = value + strlen(value);
 		while (p > value && isspace((unsigned char)p[-1]))
 			*--p = '\0';
-		if ((o = find_option(key)) == NULL) {
-			r = err_set(e, ERR_INVALID, where, "unknown option %.64s",
-			    key);
-			break;
-		}
+		if ((o = find_option(key)) == NULL)
+			return err_set(e, ERR_INVALID, where, "unknown option "
+			    "%.64s", key);
 		if ((r = set_value(c, o, value, true, where, e)) != 0)
-			break;
+			return r;
 	}
-	fclose(f);
-	return r;
+	return 0;
 }
 
 void
@@ -265,6 +338,7 @@ config_help(FILE *f)
 			    options[i].min, options[i].max);
 		else
 			fprintf(f, "  --%-24s %s (default %s)\n",
-			    options[i].key, options[i].help, options[i].def);
+			    options[i].key, options[i].help,
+			    options[i].def[0] != '\0' ? options[i].def : "none");
 	}
 }

@@ -29,6 +29,10 @@ struct config {
 	long long_poll_max_s;	/* longest wait a long poll may ask, s */
 	long events_max;	/* event streams open at once */
 	long events_keepalive_s;	/* event stream keep-alive interval */
+	char *auth;		/* owned: auto, always (api/auth.h) */
+	char *auth_reads;	/* owned: auto, yes, no */
+	char *tls_cert;		/* owned: PEM certificate file; NULL: HTTP */
+	char *tls_key;		/* owned: PEM private key file */
 };
 
 /* Sets every field to "unset" (NULL strings, -1 numbers). */
@@ -38,11 +42,19 @@ void config_init(struct config *c);
 void config_clear(struct config *c);
 
 /*
- * Reads "key value" lines from path (# starts a comment) into the fields
- * still unset.  An unknown key or a bad value is ERR_INVALID with where
- * "path:line".
+ * Reads "key value" lines from path (# starts a comment; a line is at
+ * most 1022 bytes, the file at most 1 MiB) into the fields still unset.
+ * An unknown key or a bad value is ERR_INVALID with where "path:line";
+ * a file that cannot be read is ERR_IO.
  */
 int config_read_file(struct config *c, const char *path, struct err *e);
+
+/*
+ * As config_read_file() on text[0 .. len-1] (need not be NUL-terminated;
+ * a NUL byte in it is ERR_INVALID), with where "name:line".
+ */
+int config_read_text(struct config *c, const char *text, size_t len,
+    const char *name, struct err *e);
 
 /*
  * Sets key (dashes and underscores are the same) to value, checking type

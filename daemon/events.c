@@ -6,6 +6,7 @@
 #include <time.h>
 
 #include "events.h"
+#include "base/clock.h"
 #include "base/err.h"
 #include "base/log.h"
 #include "base/xalloc.h"
@@ -47,11 +48,13 @@ run(void *arg)
 {
 	struct events *evs = arg;
 	struct timespec ts;
+	double next;
 
 	pthread_mutex_lock(&evs->mu);
-	clock_gettime(CLOCK_MONOTONIC, &ts);
+	next = clock_ms();
 	while (!evs->quit) {
-		ts.tv_sec += evs->keepalive_s;
+		next += evs->keepalive_s * 1e3;
+		clock_timespec(&ts, next);
 		while (!evs->quit &&
 		    pthread_cond_timedwait(&evs->cv, &evs->mu, &ts) == 0)
 			;
@@ -68,16 +71,12 @@ int
 events_start(int max, int keepalive_s, struct events **evp)
 {
 	struct events *evs = xcalloc(1, sizeof(*evs));
-	pthread_condattr_t ca;
 
 	*evp = NULL;
 	evs->max = max < 0 ? 0 : max;
 	evs->keepalive_s = keepalive_s < 1 ? 1 : keepalive_s;
 	pthread_mutex_init(&evs->mu, NULL);
-	pthread_condattr_init(&ca);
-	pthread_condattr_setclock(&ca, CLOCK_MONOTONIC);
-	pthread_cond_init(&evs->cv, &ca);
-	pthread_condattr_destroy(&ca);
+	clock_cond_init(&evs->cv);
 	if (pthread_create(&evs->timer, NULL, run, evs) != 0) {
 		log_err("cannot start the event keep-alive thread");
 		pthread_cond_destroy(&evs->cv);

@@ -6,6 +6,7 @@
 #include <time.h>
 
 #include "planwait.h"
+#include "base/clock.h"
 #include "base/err.h"
 #include "base/log.h"
 #include "base/xalloc.h"
@@ -28,15 +29,6 @@ struct planwait {
 	bool quit;		/* under mu: the timer thread ends */
 	pthread_t timer;
 };
-
-static double
-now_ms(void)
-{
-	struct timespec ts;
-
-	clock_gettime(CLOCK_MONOTONIC, &ts);
-	return (double)ts.tv_sec * 1e3 + (double)ts.tv_nsec / 1e6;
-}
 
 /* Calls and frees every waiter of list (no lock held). */
 static void
@@ -105,7 +97,7 @@ run(void *arg)
 
 	pthread_mutex_lock(&pw->mu);
 	while (!pw->quit) {
-		now = now_ms();
+		now = clock_ms();
 		if ((due = take(pw, expired, now)) != NULL) {
 			pthread_mutex_unlock(&pw->mu);
 			tell(due, PLANWAIT_TIMEOUT);
@@ -121,11 +113,7 @@ run(void *arg)
 			if (w->deadline_ms < first)
 				first = w->deadline_ms;
 		/* A millisecond late rather than early: no spinning. */
-		first += 1;
-		ts.tv_sec = (time_t)(first / 1e3);
-		ts.tv_nsec = (long)((first - (double)ts.tv_sec * 1e3) * 1e6);
-		if (ts.tv_nsec >= 1000000000L)
-			ts.tv_nsec = 999999999L;
+		clock_timespec(&ts, first + 1);
 		pthread_cond_timedwait(&pw->cv, &pw->mu, &ts);
 	}
 	pthread_mutex_unlock(&pw->mu);
@@ -136,16 +124,12 @@ int
 planwait_start(int max, int64_t newest, struct planwait **pwp)
 {
 	struct planwait *pw = xcalloc(1, sizeof(*pw));
-	pthread_condattr_t ca;
 
 	*pwp = NULL;
 	pw->max = max < 0 ? 0 : max;
 	pw->newest = newest;
 	pthread_mutex_init(&pw->mu, NULL);
-	pthread_condattr_init(&ca);
-	pthread_condattr_setclock(&ca, CLOCK_MONOTONIC);
-	pthread_cond_init(&pw->cv, &ca);
-	pthread_condattr_destroy(&ca);
+	clock_cond_init(&pw->cv);
 	if (pthread_create(&pw->timer, NULL, run, pw) != 0) {
 		log_err("cannot start the long-poll timer thread");
 		pthread_cond_destroy(&pw->cv);
@@ -177,7 +161,7 @@ planwait_add(struct planwait *pw, int64_t after, double wait_ms,
 	}
 	w = xcalloc(1, sizeof(*w));
 	w->after = after;
-	w->deadline_ms = now_ms() + wait_ms;
+	w->deadline_ms = clock_ms() + wait_ms;
 	w->fn = fn;
 	w->ctx = ctx;
 	w->next = pw->head;

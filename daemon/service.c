@@ -127,6 +127,12 @@ service_events(struct service *svc)
 	return svc->events;
 }
 
+struct solver *
+service_solver(struct service *svc)
+{
+	return svc->solver;
+}
+
 int
 service_plan_wait(struct service *svc, int64_t after, double wait_ms,
     planwait_fn *fn, void *ctx, bool *queuedp, struct err *e)
@@ -249,12 +255,22 @@ publish(void *ctx, struct model *m, struct plan *p, struct engine_seed *sd,
 	struct seed_box *box, *old_box;
 	struct err re = { 0 };
 	struct event ev;
+	int64_t failed = -1;
 
 	if (p == NULL) {
 		atomic_fetch_add(&svc->stats.solves_failed, 1);
+		/* A snapshot that failed (no m) was of the newest revision. */
+		if (m != NULL)
+			failed = m->revision;
+		else {
+			pthread_mutex_lock(&svc->db_mu);
+			if (db_revision(svc->db, &failed, NULL) != 0)
+				failed = -1;
+			pthread_mutex_unlock(&svc->db_mu);
+		}
 		pthread_mutex_lock(&svc->pub_mu);
 		svc->st.last_solve_failed = true;
-		svc->st.failed_model_revision = m != NULL ? m->revision : -1;
+		svc->st.failed_model_revision = failed;
 		snprintf(svc->st.last_error, sizeof(svc->st.last_error), "%s",
 		    e != NULL ? e->msg : "solve failed");
 		pthread_mutex_unlock(&svc->pub_mu);
@@ -417,6 +433,18 @@ service_quiesce(struct service *svc)
 
 /* ---- writes: commit, then wake the solver ---- */
 
+/* The revision of the calling thread's last write (for the audit log). */
+static _Thread_local int64_t last_write_rev;
+
+int64_t
+service_write_revision_take(void)
+{
+	int64_t rev = last_write_rev;
+
+	last_write_rev = 0;
+	return rev;
+}
+
 static int
 wrote(struct service *svc, int r, const int64_t *revp)
 {
@@ -424,6 +452,7 @@ wrote(struct service *svc, int r, const int64_t *revp)
 
 	if (r != 0)
 		return r;
+	last_write_rev = *revp;
 	solver_notify(svc->solver);
 	memset(&ev, 0, sizeof(ev));
 	ev.kind = EVENT_MODEL;
@@ -502,6 +531,31 @@ service_put_network(struct service *svc, const struct model *net,
 	r = db_put_network(svc->db, net, matrix, revp, e);
 	pthread_mutex_unlock(&svc->db_mu);
 	return wrote(svc, r, revp);
+}
+
+/* ---- tokens and the audit log ---- */
+
+int
+service_tokens(struct service *svc, struct db_token **tp, size_t *np,
+    struct err *e)
+{
+	int r;
+
+	pthread_mutex_lock(&svc->db_mu);
+	r = db_token_list(svc->db, true, tp, np, e);
+	pthread_mutex_unlock(&svc->db_mu);
+	return r;
+}
+
+int
+service_audit(struct service *svc, const struct db_audit *a, struct err *e)
+{
+	int r;
+
+	pthread_mutex_lock(&svc->db_mu);
+	r = db_audit_add(svc->db, a, e);
+	pthread_mutex_unlock(&svc->db_mu);
+	return r;
 }
 
 /* ---- reads ---- */

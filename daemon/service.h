@@ -25,6 +25,7 @@
 
 struct err;
 struct service;
+struct solver;
 
 /*
  * A published plan: immutable once published.  The JSON texts are
@@ -168,6 +169,10 @@ struct stats *service_stats(struct service *svc);
 /* The change notifications (daemon/events.h); live as long as svc. */
 struct events *service_events(struct service *svc);
 
+/* The solver thread (solver_thread.h), for the watchdog's liveness check;
+   lives as long as svc. */
+struct solver *service_solver(struct service *svc);
+
 /*
  * Long polls (daemon/planwait.h): asks for fn(ctx, why) once a plan newer
  * than after is published, or after wait_ms, or when the daemon stops.
@@ -200,5 +205,23 @@ int service_load_matrix(struct service *svc, const char *name,
  * service_stop().
  */
 void service_quiesce(struct service *svc);
+
+/*
+ * API tokens and the audit log (storage/auth.c), through the API's
+ * connection.  service_tokens() lists the tokens not revoked into a new
+ * array (free()) of *np; service_audit() appends one row to the audit log.
+ */
+int service_tokens(struct service *svc, struct db_token **tp, size_t *np,
+    struct err *e);
+int service_audit(struct service *svc, const struct db_audit *a,
+    struct err *e);
+
+/*
+ * Returns the model revision that the last successful write through the
+ * service on the calling thread made since the previous call (0: none),
+ * and forgets it.  The HTTP layer calls it around each handler, which
+ * writes on its own thread, to put the revision in the audit log.
+ */
+int64_t service_write_revision_take(void);
 
 #endif /* WEFT_DAEMON_SERVICE_H */

@@ -37,8 +37,19 @@ int solver_start(const struct solver_conf *c, solver_publish_fn *fn,
 /* Tells the thread the model changed (any thread may call it). */
 void solver_notify(struct solver *s);
 
-/* Stops and joins the thread, frees s (NULL ok).  A solve in progress
-   finishes first. */
+/*
+ * Stops and joins the thread, frees s (NULL ok).  A solve in progress is
+ * cancelled: it ends at its next LP call and publishes nothing.  When it
+ * is still inside one simplex call after a few seconds, the thread is
+ * left to run until the process exits (s is then not freed, and the
+ * thread no longer uses the database or the publish callback).
+ */
 void solver_stop(struct solver *s);
+
+/*
+ * Seconds the running solve has been inside the engine, 0 when the thread
+ * is not solving (for the service watchdog).  Any thread.
+ */
+double solver_busy_s(struct solver *s);
 
 #endif /* WEFT_DAEMON_SOLVER_THREAD_H */

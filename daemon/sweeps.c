@@ -13,6 +13,7 @@
 #include "stats.h"
 #include "whatif.h"
 #include "workers.h"
+#include "base/clock.h"
 #include "base/err.h"
 #include "base/log.h"
 #include "base/xalloc.h"
@@ -66,15 +67,6 @@ struct sweeps {
 	struct sweep *cur;	/* under mu */
 	bool stopping;
 };
-
-static double
-now_ms(void)
-{
-	struct timespec ts;
-
-	clock_gettime(CLOCK_MONOTONIC, &ts);
-	return (double)ts.tv_sec * 1e3 + (double)ts.tv_nsec / 1e6;
-}
 
 /* Posts a "sweep" event: sw's progress in state. */
 static void
@@ -299,7 +291,7 @@ finish(struct sweep *sw)
 	const char *state;
 	struct err e = { 0 };
 	char *report;
-	double elapsed_s = (now_ms() - sw->t0) / 1e3;
+	double elapsed_s = (clock_ms() - sw->t0) / 1e3;
 	struct db *db;
 	int k;
 
@@ -339,7 +331,7 @@ solve(struct sweep *sw, size_t i, struct plan **pp)
 	struct model *m = model_copy(live->model);
 	struct err e = { 0 };
 	struct plan *p = NULL;
-	double t0 = now_ms();
+	double t0 = clock_ms();
 	size_t j, k;
 	int r;
 
@@ -351,7 +343,7 @@ solve(struct sweep *sw, size_t i, struct plan **pp)
 	r = whatif_solve(sw->box->sd, m, sw->time_limit_s, &p, &e);
 	res->idx = (long)i;
 	res->fail_json = xstrdup(sw->fail_json[i]);
-	res->solve_ms = now_ms() - t0;
+	res->solve_ms = clock_ms() - t0;
 	if (r != 0) {
 		snprintf(res->status, sizeof(res->status), "failed");
 		res->error = xstrdup(e.msg);
@@ -403,7 +395,7 @@ run(struct task *t, bool cancelled)
 	}
 	sw->ended++;
 	last = sw->ended == sw->n;
-	now = now_ms();
+	now = clock_ms();
 	/*
 	 * Written under the lock, so that no task still uses sw when the
 	 * last one frees it; at most once a second.
@@ -500,7 +492,7 @@ sweeps_start(struct sweeps *s, const char *kind, double scale,
 		sweep_free(sw);
 		return r;
 	}
-	sw->t0 = now_ms();
+	sw->t0 = clock_ms();
 	sw->last_flush = sw->t0;
 	sw->last_event = sw->t0;
 	*idp = sw->id;
@@ -551,7 +543,7 @@ sweeps_progress(struct sweeps *s, int64_t id, long *donep, long *totalp,
 		found = true;
 		*donep = (long)s->cur->done;
 		*totalp = (long)s->cur->n;
-		*elapsedp = (now_ms() - s->cur->t0) / 1e3;
+		*elapsedp = (clock_ms() - s->cur->t0) / 1e3;
 	}
 	pthread_mutex_unlock(&s->mu);
 	return found;
@@ -571,8 +563,7 @@ sweeps_cancel(struct sweeps *s, int64_t id, struct err *e)
 	s->cur->cancel = true;
 	if (s->cur->end_state == NULL)
 		s->cur->end_state = "cancelled";
-	clock_gettime(CLOCK_REALTIME, &ts);
-	ts.tv_sec += CANCEL_WAIT_S;
+	clock_deadline(&ts, CANCEL_WAIT_S * 1000L);
 	while (s->cur != NULL && s->cur->id == id)
 		if (pthread_cond_timedwait(&s->cv, &s->mu, &ts) != 0)
 			break;

@@ -35,6 +35,7 @@
 #include "db_internal.h"
 #include "schema.h"
 #include "../daemon/base/err.h"
+#include "../daemon/base/fault.h"
 #include "../daemon/base/xalloc.h"
 
 /* ---- helpers shared by the query files ---- */
@@ -148,15 +149,68 @@ out:
 	return r;
 }
 
+#ifdef WEFT_FAULTS
+/*
+ * Test builds: the SQLite result an injected fault at point stands for,
+ * named by its argument (the result's name, or the errno a file system
+ * gives for it); SQLITE_IOERR for any other argument, SQLITE_OK while the
+ * point is off.
+ */
+static int
+fault_rc(const char *point)
+{
+	static const struct {
+		const char *arg;
+		int rc;
+	} rcs[] = {
+		{ "FULL", SQLITE_FULL }, { "ENOSPC", SQLITE_FULL },
+		{ "READONLY", SQLITE_READONLY }, { "EROFS", SQLITE_READONLY },
+		{ "IOERR", SQLITE_IOERR }, { "EIO", SQLITE_IOERR },
+		{ "BUSY", SQLITE_BUSY }, { "CORRUPT", SQLITE_CORRUPT },
+	};
+	char arg[16];
+	size_t i;
+
+	if (!fault_hit(point, arg, sizeof(arg)))
+		return SQLITE_OK;
+	for (i = 0; i < sizeof(rcs) / sizeof(rcs[0]); i++)
+		if (strcmp(arg, rcs[i].arg) == 0)
+			return rcs[i].rc;
+	return SQLITE_IOERR;
+}
+#endif
+
 int
 db_begin(struct db *db, bool write, struct err *e)
 {
+#ifdef WEFT_FAULTS
+	int rc;
+
+	/* Before the transaction: db_begin for writes, db_read for reads. */
+	if ((rc = fault_rc(write ? "db_begin" : "db_read")) != SQLITE_OK)
+		return db_fail(NULL, rc, write ? "starting a write transaction "
+		    "(injected fault)" : "starting a read transaction "
+		    "(injected fault)", e);
+#endif
 	return db_exec(db, write ? "BEGIN IMMEDIATE" : "BEGIN DEFERRED", e);
 }
 
 int
 db_commit(struct db *db, struct err *e)
 {
+#ifdef WEFT_FAULTS
+	int rc;
+
+	/*
+	 * After the writes of a write transaction, in place of its COMMIT:
+	 * the caller's db_rollback() then undoes them, as after a real
+	 * failed commit.  Read transactions commit as usual.
+	 */
+	if (sqlite3_txn_state(db->sq, NULL) == SQLITE_TXN_WRITE &&
+	    (rc = fault_rc("db_commit")) != SQLITE_OK)
+		return db_fail(NULL, rc, "committing a write transaction "
+		    "(injected fault)", e);
+#endif
 	return db_exec(db, "COMMIT", e);
 }
 
@@ -405,8 +459,13 @@ out:
 	return r;
 }
 
-int
-db_open(const char *path, struct db **dbp, struct err *e)
+/*
+ * Opens the connection; with recover, counts it among this process's
+ * connections and, as the first, marks left-over running sweeps
+ * interrupted (db_open); without, does neither (db_open_tool).
+ */
+static int
+open_db(const char *path, bool recover, struct db **dbp, struct err *e)
 {
 	struct db *db = NULL;
 	char buf[32];
@@ -456,7 +515,7 @@ db_open(const char *path, struct db **dbp, struct err *e)
 		goto out;
 	}
 	if ((r = migrate(db, e)) != 0 ||
-	    (r = count_open(db, path, e)) != 0)
+	    (recover && (r = count_open(db, path, e)) != 0))
 		goto out;
 
 	*dbp = db;
@@ -465,6 +524,18 @@ db_open(const char *path, struct db **dbp, struct err *e)
 out:
 	db_close(db);
 	return r;
+}
+
+int
+db_open(const char *path, struct db **dbp, struct err *e)
+{
+	return open_db(path, true, dbp, e);
+}
+
+int
+db_open_tool(const char *path, struct db **dbp, struct err *e)
+{
+	return open_db(path, false, dbp, e);
 }
 
 void

@@ -243,4 +243,74 @@ void db_sweeps_free(struct db_sweep *s, size_t n);
 /* Frees an array of n results from db_sweep_results(); r may be NULL. */
 void db_sweep_results_free(struct db_sweep_result *r, size_t n);
 
+/*
+ * API tokens and the audit log (storage/auth.c).  Neither is a model
+ * change: the model revision stays as it is.  The token text itself is
+ * never stored: the caller (api/auth.c) makes the token, its selector,
+ * salt and hash, and hands over only those three.
+ */
+#define DB_TOKEN_SELECTOR_LEN	16	/* selector characters */
+#define DB_TOKEN_SALT_LEN	16	/* salt bytes */
+#define DB_TOKEN_HASH_LEN	32	/* hash bytes: SHA-256 */
+#define DB_TOKEN_NAME_MAX	64	/* name bytes */
+
+struct db_token {
+	int64_t id;
+	char selector[DB_TOKEN_SELECTOR_LEN + 1];	/* public part */
+	char role[16];		/* "read", "operate" or "admin" */
+	char name[DB_TOKEN_NAME_MAX + 1];	/* "" when none was given */
+	uint8_t salt[DB_TOKEN_SALT_LEN];
+	uint8_t hash[DB_TOKEN_HASH_LEN];	/* SHA-256(salt || token) */
+	char created_at[32];	/* ISO 8601 UTC */
+	char revoked_at[32];	/* ISO 8601 UTC; "" while valid */
+};
+
+/*
+ * Stores a new token (created_at now, not revoked) and returns its id in
+ * *idp.  ERR_INVALID at "role" (not read, operate or admin), "name" (over
+ * DB_TOKEN_NAME_MAX bytes) or "selector" (not DB_TOKEN_SELECTOR_LEN
+ * characters); ERR_CONFLICT at "selector" when another token has it.
+ * name may be NULL (none).
+ */
+int db_token_add(struct db *db, const char *selector, const char *role,
+    const char *name, const uint8_t salt[DB_TOKEN_SALT_LEN],
+    const uint8_t hash[DB_TOKEN_HASH_LEN], int64_t *idp, struct err *e);
+
+/*
+ * Lists tokens by id ascending into *tp (new array of *np, the caller's,
+ * free(); NULL when none): every token, or with valid_only those not
+ * revoked.
+ */
+int db_token_list(struct db *db, bool valid_only, struct db_token **tp,
+    size_t *np, struct err *e);
+
+/*
+ * Revokes token id (revoked_at now).  *wasp (may be NULL) is set true
+ * when it was revoked already (then nothing changes).  ERR_NOTFOUND at
+ * "id" for an unknown token.
+ */
+int db_token_revoke(struct db *db, int64_t id, bool *wasp, struct err *e);
+
+/* One row of the audit log (see storage/schema/004_auth.sql). */
+struct db_audit {
+	const char *who;	/* borrowed: token name, "local", ... */
+	int64_t token_id;	/* 0: no token was accepted */
+	const char *client;	/* borrowed: client address, may be NULL */
+	const char *method;	/* borrowed */
+	const char *path;	/* borrowed */
+	int status;		/* HTTP status of the reply */
+	int64_t model_revision;	/* 0: the request made none */
+	const char *request_id;	/* borrowed, may be NULL */
+};
+
+/* Appends a row (at now) to the audit log, in its own transaction. */
+int db_audit_add(struct db *db, const struct db_audit *a, struct err *e);
+
+/*
+ * Opens the database as db_open() does, for a short-lived second process
+ * (the token commands): running sweeps are left alone, because the
+ * daemon that runs them may well be alive.
+ */
+int db_open_tool(const char *path, struct db **dbp, struct err *e);
+
 #endif /* WEFT_STORAGE_DB_H */

@@ -32,6 +32,7 @@ enum {
 /* The global options, read once by main.c; read-only afterwards. */
 struct cli {
 	const char *url;	/* daemon base URL, no trailing '/' */
+	const char *token;	/* bearer token, NULL when none */
 	double timeout_s;	/* limit of one request, s */
 	bool json;		/* print JSON instead of tables */
 	bool tty;		/* stdout is a terminal */

@@ -121,16 +121,8 @@ set_state(const struct cli *c, const char *state, int argc, char **argv)
 	body = json_pack("{s:s}", "state", state);
 	r = fetch_json(c, "PATCH", path, body, &a);
 	json_decref(body);
-	if (r != RC_OK)
-		goto out;
-	if (c->json)
-		answer_print(&a);
-	else
-		printf("link %s is %s (model revision %lld)\n", id, state,
-		    js_int(a.json, "model_revision", 0));
-	if (wait)
-		r = wait_report(c, js_int(a.json, "model_revision", 0));
-out:
+	if (r == RC_OK)
+		r = wait_changed(c, &a, wait, "link %s is %s", id, state);
 	free(path);
 	answer_clear(&a);
 	return r;

@@ -160,17 +160,9 @@ cmd_matrix_put(const struct cli *c, int argc, char **argv)
 	free(e);
 	r = fetch(c, "PUT", path, "application/json", body != NULL ? body :
 	    text, body != NULL ? strlen(body) : len, &a);
-	if (r != RC_OK)
-		goto out;
-	if (c->json)
-		answer_print(&a);
-	else
-		printf("matrix %s: %lld demands (model revision %lld)\n",
-		    js_str(a.json, "name", pos[0]),
-		    js_int(a.json, "demands", 0),
-		    js_int(a.json, "model_revision", 0));
-	if (wait)
-		r = wait_report(c, js_int(a.json, "model_revision", 0));
+	if (r == RC_OK)
+		r = wait_changed(c, &a, wait, "matrix %s: %lld demands",
+		    js_str(a.json, "name", pos[0]), js_int(a.json, "demands", 0));
 out:
 	free(text);
 	free(body);

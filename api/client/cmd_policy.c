@@ -34,8 +34,6 @@ static const struct opt_def defs[] = {
 	{ NULL, false },
 };
 
-static const char *const objectives[] = { "cost", "balance", "congestion" };
-static const char *const formulations[] = { "path", "arc" };
 static const char *const yesno[] = { "no", "yes" };
 
 static void
@@ -71,7 +69,6 @@ cmd_policy(const struct cli *c, int argc, char **argv)
 	struct opts o;
 	json_t *set;
 	const char *v;
-	double x;
 	bool wait = false;
 	int k, i, r;
 
@@ -87,27 +84,15 @@ cmd_policy(const struct cli *c, int argc, char **argv)
 			r = msg_usage("policy takes options only (\"%s\")", v);
 			break;
 		case O_OBJECTIVE:
-			if ((r = opt_word("--objective", v, objectives, 3,
-			    &i)) == 0)
-				json_object_set_new(set, "objective",
-				    json_string(objectives[i]));
-			break;
 		case O_HEADROOM:
-			if ((r = opt_num("--headroom", v, 1e-9, 1, &x)) == 0)
-				json_object_set_new(set, "headroom",
-				    json_real(x));
+		case O_FORMULATION:
+			r = opt_member(defs[k].name, v, set);
 			break;
 		case O_MATRIX:
 			json_object_set_new(set, "matrix", json_string(v));
 			break;
 		case O_NO_MATRIX:
 			json_object_set_new(set, "matrix", json_null());
-			break;
-		case O_FORMULATION:
-			if ((r = opt_word("--formulation", v, formulations, 2,
-			    &i)) == 0)
-				json_object_set_new(set, "formulation",
-				    json_string(formulations[i]));
 			break;
 		case O_KEEP_PATHS:
 			if ((r = opt_word("--keep-paths", v, yesno, 2,
@@ -136,15 +121,9 @@ cmd_policy(const struct cli *c, int argc, char **argv)
 	json_object_update(a.json, set);
 	if ((r = fetch_json(c, "PUT", "/v1/policy", a.json, &w)) != RC_OK)
 		goto out;
-	if (c->json)
-		answer_print(&w);
-	else {
+	if (!c->json)
 		print_policy(a.json);
-		printf("policy stored (model revision %lld)\n",
-		    js_int(w.json, "model_revision", 0));
-	}
-	if (wait)
-		r = wait_report(c, js_int(w.json, "model_revision", 0));
+	r = wait_changed(c, &w, wait, "policy stored");
 out:
 	json_decref(set);
 	answer_clear(&a);

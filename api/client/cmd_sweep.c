@@ -19,21 +19,26 @@ static const char *const kinds[] = { "links", "nodes", "srlgs",
 	"link-pairs" };
 
 int
-sweep_id(const char *what, int argc, char **argv, long long *idp)
+sweep_id(const char *what, int argc, char **argv,
+    const struct opt_def *defs, sweep_opt_fn *fn, void *arg, long long *idp)
 {
-	static const struct opt_def defs[] = { { NULL, false } };
+	static const struct opt_def none[] = { { NULL, false } };
 	struct opts o;
 	const char *v, *id = NULL;
 	long n;
 	int k, r;
 
 	opt_init(&o, argc, argv);
-	while ((k = opt_next(&o, defs, &v)) != OPT_END) {
+	while ((k = opt_next(&o, defs != NULL ? defs : none, &v)) != OPT_END) {
 		if (k == OPT_BAD)
 			return RC_USAGE;
-		if (id != NULL)
+		if (k >= 0) {
+			if ((r = fn(k, v, arg)) != 0)
+				return r;
+		} else if (id != NULL)
 			return msg_usage("sweep %s takes one sweep id", what);
-		id = v;
+		else
+			id = v;
 	}
 	if (id == NULL)
 		return msg_usage("sweep %s needs a sweep id", what);
@@ -58,7 +63,7 @@ cmd_sweep_start(const struct cli *c, int argc, char **argv)
 	struct opts o;
 	json_t *body;
 	const char *v;
-	double x, interval = SWEEP_INTERVAL_S;
+	double interval = SWEEP_INTERVAL_S;
 	bool watch = false;
 	int k, i, r = 0;
 
@@ -78,15 +83,8 @@ cmd_sweep_start(const struct cli *c, int argc, char **argv)
 				    json_string(kinds[i]));
 			break;
 		case O_SCALE:
-			if ((r = opt_num("--scale", v, 0, 1e6, &x)) == 0)
-				json_object_set_new(body, "scale",
-				    json_real(x));
-			break;
 		case O_TIME_LIMIT:
-			if ((r = opt_num("--time-limit", v, 1e-3, 86400,
-			    &x)) == 0)
-				json_object_set_new(body, "time_limit_s",
-				    json_real(x));
+			r = opt_member(defs[k].name, v, body);
 			break;
 		case O_WATCH:
 			watch = true;
@@ -159,49 +157,60 @@ out:
 	return r;
 }
 
-int
-cmd_sweep_cancel(const struct cli *c, int argc, char **argv)
+/* What a command on one sweep prints for people: its answer j. */
+typedef void said_fn(long long id, const json_t *j);
+
+/*
+ * "sweep <what> ID": sends method with no body to /v1/sweeps/ID and then
+ * suffix; prints the answer's body with c->json, else said(ID, answer).
+ * Returns the exit code.
+ */
+static int
+act(const struct cli *c, const char *what, const char *method,
+    const char *suffix, said_fn *said, int argc, char **argv)
 {
 	struct answer a = { 0 };
 	long long id;
 	char *path;
 	int r;
 
-	if ((r = sweep_id("cancel", argc, argv, &id)) != 0)
+	if ((r = sweep_id(what, argc, argv, NULL, NULL, NULL, &id)) != 0)
 		return r;
-	path = xasprintf("/v1/sweeps/%lld/cancel", id);
-	if ((r = fetch(c, "POST", path, NULL, NULL, 0, &a)) == RC_OK) {
+	path = xasprintf("/v1/sweeps/%lld%s", id, suffix);
+	if ((r = fetch(c, method, path, NULL, NULL, 0, &a)) == RC_OK) {
 		if (c->json)
 			answer_print(&a);
 		else
-			printf("sweep %lld %s after %lld of %lld scenarios\n",
-			    id, js_str(a.json, "state", "?"),
-			    js_int(a.json, "done", 0),
-			    js_int(a.json, "total", 0));
+			said(id, a.json);
 	}
 	free(path);
 	answer_clear(&a);
 	return r;
 }
 
+static void
+cancelled(long long id, const json_t *j)
+{
+	printf("sweep %lld %s after %lld of %lld scenarios\n", id,
+	    js_str(j, "state", "?"), js_int(j, "done", 0),
+	    js_int(j, "total", 0));
+}
+
+static void
+removed(long long id, const json_t *j)
+{
+	(void)j;
+	printf("sweep %lld removed\n", id);
+}
+
+int
+cmd_sweep_cancel(const struct cli *c, int argc, char **argv)
+{
+	return act(c, "cancel", "POST", "/cancel", cancelled, argc, argv);
+}
+
 int
 cmd_sweep_rm(const struct cli *c, int argc, char **argv)
 {
-	struct answer a = { 0 };
-	long long id;
-	char *path;
-	int r;
-
-	if ((r = sweep_id("rm", argc, argv, &id)) != 0)
-		return r;
-	path = xasprintf("/v1/sweeps/%lld", id);
-	if ((r = fetch(c, "DELETE", path, NULL, NULL, 0, &a)) == RC_OK) {
-		if (c->json)
-			answer_print(&a);
-		else
-			printf("sweep %lld removed\n", id);
-	}
-	free(path);
-	answer_clear(&a);
-	return r;
+	return act(c, "rm", "DELETE", "", removed, argc, argv);
 }

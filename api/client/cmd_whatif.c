@@ -29,9 +29,6 @@ static const struct opt_def defs[] = {
 	{ NULL, false },
 };
 
-static const char *const objectives[] = { "cost", "balance", "congestion" };
-static const char *const formulations[] = { "path", "arc" };
-
 /* Appends v to the array member key of obj, creating it. */
 static void
 add_to(json_t *obj, const char *key, json_t *v)
@@ -56,9 +53,8 @@ request(int argc, char **argv, json_t **bodyp, long *topp)
 	json_t *pol = json_object();
 	struct opts o;
 	const char *v;
-	double x;
 	long n;
-	int k, i, r = 0;
+	int k, r = 0;
 
 	opt_init(&o, argc, argv);
 	while (r == 0 && (k = opt_next(&o, defs, &v)) != OPT_END) {
@@ -81,35 +77,16 @@ request(int argc, char **argv, json_t **bodyp, long *topp)
 				add_to(fail, "srlgs", json_integer(n));
 			break;
 		case O_SCALE:
-			if ((r = opt_num("--scale", v, 0, 1e6, &x)) == 0)
-				json_object_set_new(body, "scale",
-				    json_real(x));
+		case O_TIME_LIMIT:
+			r = opt_member(defs[k].name, v, body);
 			break;
 		case O_MATRIX:
 			json_object_set_new(body, "matrix", json_string(v));
 			break;
 		case O_OBJECTIVE:
-			if ((r = opt_word("--objective", v, objectives, 3,
-			    &i)) == 0)
-				json_object_set_new(pol, "objective",
-				    json_string(objectives[i]));
-			break;
 		case O_HEADROOM:
-			if ((r = opt_num("--headroom", v, 1e-9, 1, &x)) == 0)
-				json_object_set_new(pol, "headroom",
-				    json_real(x));
-			break;
 		case O_FORMULATION:
-			if ((r = opt_word("--formulation", v, formulations, 2,
-			    &i)) == 0)
-				json_object_set_new(pol, "formulation",
-				    json_string(formulations[i]));
-			break;
-		case O_TIME_LIMIT:
-			if ((r = opt_num("--time-limit", v, 1e-3, 86400,
-			    &x)) == 0)
-				json_object_set_new(body, "time_limit_s",
-				    json_real(x));
+			r = opt_member(defs[k].name, v, pol);
 			break;
 		case O_TOP:
 			r = opt_long("--top", v, 1, 100000, topp);
@@ -130,6 +107,19 @@ request(int argc, char **argv, json_t **bodyp, long *topp)
 	return r;
 }
 
+/* A row of compare(): label, then member key of live and of scen. */
+static void
+side_by_side(struct table *t, const char *label,
+    char *(*fmt)(char *, double), const json_t *live, const json_t *scen,
+    const char *key)
+{
+	char b[FMT_LEN];
+
+	table_cell(t, "%s", label);
+	table_cell(t, "%s", fmt(b, js_num(live, key)));
+	table_cell(t, "%s", fmt(b, js_num(scen, key)));
+}
+
 /* The live plan and the scenario's side by side. */
 static void
 compare(const json_t *w, FILE *f)
@@ -139,7 +129,7 @@ compare(const json_t *w, FILE *f)
 	const json_t *live = js_obj(cmp, "live"), *scen = js_obj(cmp,
 	    "scenario");
 	struct table *t = table_new(3, "lrr", heads);
-	char b1[FMT_LEN], b2[FMT_LEN], list[1024];
+	char b[FMT_LEN], list[1024];
 	double moved = js_num(cmp, "moved_bps");
 
 	js_join(js_arr(sc, "failed_links"), ", ", list, sizeof(list));
@@ -147,84 +137,60 @@ compare(const json_t *w, FILE *f)
 	    "%lld): failed links %s; demand %s\n",
 	    js_int(w, "model_revision", 0), js_int(w, "plan_revision", 0),
 	    list[0] != '\0' ? list : "none",
-	    fmt_bps(b1, js_num(sc, "demand_bps")));
+	    fmt_bps(b, js_num(sc, "demand_bps")));
 	table_cell(t, "status");
 	table_cell(t, "-");
 	table_cell(t, "%s", js_str(js_obj(w, "plan"), "status", "?"));
-	table_cell(t, "max utilisation");
-	table_cell(t, "%s", fmt_pct(b1, js_num(live, "max_utilization")));
-	table_cell(t, "%s", fmt_pct(b2, js_num(scen, "max_utilization")));
-	table_cell(t, "carried");
-	table_cell(t, "%s", fmt_bps(b1, js_num(live, "carried_bps")));
-	table_cell(t, "%s", fmt_bps(b2, js_num(scen, "carried_bps")));
-	table_cell(t, "unserved");
-	table_cell(t, "%s", fmt_bps(b1, js_num(live, "unserved_bps")));
-	table_cell(t, "%s", fmt_bps(b2, js_num(scen, "unserved_bps")));
-	table_cell(t, "total cost");
-	table_cell(t, "%s", fmt_num(b1, js_num(live, "total_cost")));
-	table_cell(t, "%s", fmt_num(b2, js_num(scen, "total_cost")));
+	side_by_side(t, "max utilisation", fmt_pct, live, scen,
+	    "max_utilization");
+	side_by_side(t, "carried", fmt_bps, live, scen, "carried_bps");
+	side_by_side(t, "unserved", fmt_bps, live, scen, "unserved_bps");
+	side_by_side(t, "total cost", fmt_num, live, scen, "total_cost");
 	table_cell(t, "moved");
 	table_cell(t, "%s", "");
-	table_cell(t, "%s", moved >= 0 ? fmt_bps(b1, moved) : "-");
+	table_cell(t, "%s", moved >= 0 ? fmt_bps(b, moved) : "-");
 	table_print(t, f, "");
 	table_free(t);
 }
 
 static void
-rising(const json_t *w, long top, FILE *f)
+rising_row(struct table *t, const json_t *v, const void *ctx)
 {
-	static const char *const heads[] = { "LINK", "FROM", "TO", "LIVE",
-		"SCENARIO", "RISE" };
-	json_t *arr = js_arr(w, "rising_links"), *v;
-	struct table *t;
 	char b[FMT_LEN];
-	size_t i;
 
-	if (json_array_size(arr) == 0)
-		return;
-	fprintf(f, "link directions whose utilisation rises most:\n");
-	t = table_new(6, "lllrrr", heads);
-	json_array_foreach(arr, i, v) {
-		if ((long)i == top)
-			break;
-		table_cell(t, "%s", js_str(v, "link", "?"));
-		table_cell(t, "%s", js_str(v, "from", "?"));
-		table_cell(t, "%s", js_str(v, "to", "?"));
-		table_cell(t, "%s", fmt_pct(b, js_num(v, "live_utilization")));
-		table_cell(t, "%s", fmt_pct(b, js_num(v, "utilization")));
-		table_cell(t, "%s", fmt_pct(b, js_num(v, "rise")));
-	}
-	table_print(t, f, "  ");
-	table_free(t);
+	show_direction_row(t, v, ctx);
+	table_cell(t, "%s", fmt_pct(b, js_num(v, "live_utilization")));
+	table_cell(t, "%s", fmt_pct(b, js_num(v, "utilization")));
+	table_cell(t, "%s", fmt_pct(b, js_num(v, "rise")));
 }
 
 static void
-unserved(const json_t *w, long top, FILE *f)
+unserved_row(struct table *t, const json_t *v, const void *ctx)
 {
-	static const char *const heads[] = { "SRC", "DST", "PRIO", "RATE",
-		"UNSERVED", "CUT OFF" };
-	json_t *arr = js_arr(w, "unserved_demands"), *v;
-	struct table *t;
 	char b[FMT_LEN];
-	size_t i;
 
-	if (json_array_size(arr) == 0)
-		return;
-	fprintf(f, "demands left unserved: %lld, most unserved first:\n",
+	show_demand_row(t, v, ctx);
+	table_cell(t, "%s", fmt_bps(b, js_num(v, "unserved_bps")));
+	table_cell(t, "%s", js_bool(v, "cut_off") ? "yes" : "no");
+}
+
+/* The link directions that rise most, the demands left unserved. */
+static void
+lists(const json_t *w, long top, FILE *f)
+{
+	static const char *const rh[] = { "LINK", "FROM", "TO", "LIVE",
+		"SCENARIO", "RISE" };
+	static const char *const uh[] = { "SRC", "DST", "PRIO", "RATE",
+		"UNSERVED", "CUT OFF" };
+	static const struct show_cols rising = { "lllrrr", rh, rising_row };
+	static const struct show_cols unserved = { "llrrrl", uh,
+		unserved_row };
+
+	show_list(f, &rising, js_arr(w, "rising_links"), top, NULL,
+	    "link directions whose utilisation rises most:");
+	show_list(f, &unserved, js_arr(w, "unserved_demands"), top, NULL,
+	    "demands left unserved: %lld, most unserved first:",
 	    js_int(w, "unserved_demands_total", 0));
-	t = table_new(6, "llrrrl", heads);
-	json_array_foreach(arr, i, v) {
-		if ((long)i == top)
-			break;
-		table_cell(t, "%s", js_str(v, "src", "?"));
-		table_cell(t, "%s", js_str(v, "dst", "?"));
-		table_cell(t, "%lld", js_int(v, "priority", 0));
-		table_cell(t, "%s", fmt_bps(b, js_num(v, "rate_bps")));
-		table_cell(t, "%s", fmt_bps(b, js_num(v, "unserved_bps")));
-		table_cell(t, "%s", js_bool(v, "cut_off") ? "yes" : "no");
-	}
-	table_print(t, f, "  ");
-	table_free(t);
 }
 
 int
@@ -245,8 +211,7 @@ cmd_whatif(const struct cli *c, int argc, char **argv)
 		answer_print(&a);
 	else {
 		compare(a.json, stdout);
-		rising(a.json, top, stdout);
-		unserved(a.json, top, stdout);
+		lists(a.json, top, stdout);
 		if (js_obj(js_obj(a.json, "plan"), "explain") != NULL) {
 			printf("the scenario's plan:\n");
 			show_plan(js_obj(a.json, "plan"), stdout);

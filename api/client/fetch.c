@@ -61,13 +61,28 @@ say_error(const char *method, const char *path, const struct answer *a,
 	    where[0] != '\0' ? ")" : "");
 }
 
+/* After a 401 or 403 (docs/api.md, Authentication): what to do about it. */
+static void
+say_auth(const struct cli *c, long status)
+{
+	if (status == 401 && c->token == NULL)
+		msg("the daemon wants a bearer token: give one with --token "
+		    "or WEFT_TOKEN");
+	else if (status == 401)
+		msg("the daemon did not accept the token given (--token or "
+		    "WEFT_TOKEN): it is unknown or revoked");
+	else if (status == 403)
+		msg("the token given (--token or WEFT_TOKEN) has a role too "
+		    "low for this request");
+}
+
 int
 fetch(const struct cli *c, const char *method, const char *path,
     const char *ctype, const char *body, size_t len, struct answer *ap)
 {
 	struct curl_slist *hdrs = NULL;
 	struct sink s = { 0 };
-	char *url = NULL, *h = NULL;
+	char *url = NULL, *h = NULL, *auth = NULL;
 	CURLcode cr;
 	long ms;
 	int r;
@@ -85,6 +100,10 @@ fetch(const struct cli *c, const char *method, const char *path,
 	/* Expect: 100-continue would only delay small bodies. */
 	hdrs = curl_slist_append(hdrs, "Expect:");
 	hdrs = curl_slist_append(hdrs, "Accept: application/json");
+	if (c->token != NULL) {
+		auth = xasprintf("Authorization: Bearer %s", c->token);
+		hdrs = curl_slist_append(hdrs, auth);
+	}
 	if (body != NULL) {
 		h = xasprintf("Content-Type: %s", ctype);
 		hdrs = curl_slist_append(hdrs, h);
@@ -133,6 +152,7 @@ fetch(const struct cli *c, const char *method, const char *path,
 	ap->json = json_loadb(ap->text, ap->len, JSON_DECODE_ANY, NULL);
 	if (ap->status >= 400 && ap->status < 500) {
 		say_error(method, path, ap, "refused");
+		say_auth(c, ap->status);
 		r = RC_REFUSED;
 	} else if (ap->status >= 500) {
 		/* 503 is busy or a timeout: worth a retry (Retry-After). */
@@ -154,6 +174,10 @@ out:
 	free(s.buf);
 	free(url);
 	free(h);
+	if (auth != NULL) {
+		explicit_bzero(auth, strlen(auth));
+		free(auth);
+	}
 	return r;
 }
 

@@ -10,9 +10,11 @@
  * most FETCH_BODY_MAX bytes) and sorts the outcome into the exit codes:
  * 2xx with a JSON body is RC_OK; 4xx is RC_REFUSED and 5xx, no answer, a
  * timeout or a body that is not JSON are RC_FAILED, each after one line
- * on stderr quoting the daemon's error (docs/api.md, Errors).  One curl
- * handle is kept for the life of the process, so a polling loop reuses
- * its connection.  One thread.
+ * on stderr quoting the daemon's error (docs/api.md, Errors); a 401 or
+ * 403 adds a line on the token.  c->token, when set, goes with every
+ * request as "Authorization: Bearer".  One curl handle is kept for the
+ * life of the process, so a polling loop reuses its connection.  One
+ * thread.
  */
 
 #include <stddef.h>

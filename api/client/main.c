@@ -3,13 +3,15 @@
 
 /*
  * DESIGN
- * The global options (--url, --json, --timeout) may stand anywhere on the
- * command line before "--"; they are taken out first, so every command
- * sees only its own words.  A command is one word or two ("sweep watch");
- * the table below maps them to their functions and holds each usage line,
- * printed by "weft help" and by --help after any command.  The daemon's
- * address comes from --url, else WEFT_URL, else DEFAULT_URL.  Exit codes
- * are listed in client.h and docs/weft.1.
+ * The global options (--url, --token, --json, --timeout) may stand
+ * anywhere on the command line before "--"; they are taken out first, so
+ * every command sees only its own words.  A command is one word or two
+ * ("sweep watch"); the table below maps them to their functions and holds
+ * each usage line, printed by "weft help" and by --help after any command.
+ * The daemon's address comes from --url, else WEFT_URL, else
+ * DEFAULT_URL; the bearer token from --token, else WEFT_TOKEN, else there
+ * is none (fetch.c sends it with every request).  Exit codes are listed
+ * in client.h and docs/weft.1.
  */
 
 #include <stdio.h>
@@ -85,17 +87,37 @@ usage(FILE *f)
 {
 	size_t i;
 
-	fprintf(f, "usage: weft [--url URL] [--json] [--timeout S] command "
-	    "[argument ...]\n"
+	fprintf(f, "usage: weft [--url URL] [--token TOKEN] [--json] "
+	    "[--timeout S]\n"
+	    "            command [argument ...]\n"
 	    "commands:\n");
 	for (i = 0; i < N_COMMANDS; i++)
 		usage_line(&commands[i], f);
 	fprintf(f, "  weft help\n"
 	    "The daemon is at --url, else $WEFT_URL, else %s.\n"
+	    "A bearer token is sent from --token, else $WEFT_TOKEN.\n"
 	    "Exit status: 0 ok, 1 usage, 2 refused (4xx), 3 failed or "
 	    "unreachable,\n"
 	    "4 the plan reported leaves traffic unserved.  See weft(1).\n",
 	    DEFAULT_URL);
+}
+
+/*
+ * A token goes into a header line as it is: it must be one word of
+ * printable ASCII.  Returns 0 or RC_USAGE (the token is not printed).
+ */
+static int
+token_ok(const char *from, const char *tok)
+{
+	const char *p;
+
+	if (tok[0] == '\0')
+		return msg_usage("%s: the token is empty", from);
+	for (p = tok; *p != '\0'; p++)
+		if (*p <= ' ' || *p > '~')
+			return msg_usage("%s: the token must be printable "
+			    "ASCII without blanks", from);
+	return 0;
 }
 
 /*
@@ -123,9 +145,11 @@ globals(struct cli *c, int *argcp, char **argv)
 		}
 		val = NULL;
 		if (strncmp(a, "--url=", 6) == 0 ||
+		    strncmp(a, "--token=", 8) == 0 ||
 		    strncmp(a, "--timeout=", 10) == 0)
 			val = strchr(a, '=') + 1;
 		else if (strcmp(a, "--url") == 0 ||
+		    strcmp(a, "--token") == 0 ||
 		    strcmp(a, "--timeout") == 0) {
 			if (i + 1 == argc)
 				return msg_usage("option %s needs a value", a);
@@ -136,7 +160,11 @@ globals(struct cli *c, int *argcp, char **argv)
 		}
 		if (a[2] == 'u')
 			c->url = val;
-		else if ((r = opt_num("--timeout", val, 0.001, 86400,
+		else if (strncmp(a, "--token", 7) == 0) {
+			if ((r = token_ok("--token", val)) != 0)
+				return r;
+			c->token = val;
+		} else if ((r = opt_num("--timeout", val, 0.001, 86400,
 		    &c->timeout_s)) != 0)
 			return r;
 	}
@@ -221,6 +249,12 @@ main(int argc, char **argv)
 	if (c.url == NULL)
 		c.url = (env = getenv("WEFT_URL")) != NULL && env[0] != '\0' ?
 		    env : DEFAULT_URL;
+	if (c.token == NULL && (env = getenv("WEFT_TOKEN")) != NULL &&
+	    env[0] != '\0') {
+		if ((r = token_ok("WEFT_TOKEN", env)) != 0)
+			return r;
+		c.token = env;
+	}
 	url = xstrdup(c.url);
 	for (len = strlen(url); len > 0 && url[len - 1] == '/'; len--)
 		url[len - 1] = '\0';

@@ -1,13 +1,34 @@
 /* SPDX-License-Identifier: GPL-3.0-or-later */
 /* A command's own options: long names, values, positional arguments. */
+#include <assert.h>
 #include <errno.h>
 #include <math.h>
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
 
+#include <jansson.h>
+
 #include "opt.h"
 #include "client.h"
+
+static const char *const objectives[] = { "cost", "balance", "congestion" };
+static const char *const formulations[] = { "path", "arc" };
+
+/* The request members opt_member() knows. */
+static const struct member {
+	const char *opt;		/* option name, without "--" */
+	const char *key;		/* the member's name */
+	const char *const *words;	/* its words; NULL: a number */
+	int n_words;
+	double lo, hi;			/* the number's range */
+} members[] = {
+	{ "objective", "objective", objectives, 3, 0, 0 },
+	{ "headroom", "headroom", NULL, 0, 1e-9, 1 },
+	{ "formulation", "formulation", formulations, 2, 0, 0 },
+	{ "scale", "scale", NULL, 0, 0, 1e6 },
+	{ "time-limit", "time_limit_s", NULL, 0, 1e-3, 86400 },
+};
 
 void
 opt_init(struct opts *o, int argc, char **argv)
@@ -118,4 +139,27 @@ opt_word(const char *name, const char *val, const char *const *words,
 		fprintf(stderr, "%s%s", k == 0 ? "      " : ", ", words[k]);
 	fputc('\n', stderr);
 	return RC_USAGE;
+}
+
+int
+opt_member(const char *name, const char *val, json_t *obj)
+{
+	const struct member *m = NULL;
+	char opt[32];
+	double x;
+	size_t i;
+	int k, r;
+
+	for (i = 0; i < sizeof(members) / sizeof(members[0]); i++)
+		if (strcmp(members[i].opt, name) == 0)
+			m = &members[i];
+	assert(m != NULL);
+	snprintf(opt, sizeof(opt), "--%s", m->opt);
+	if (m->words != NULL) {
+		if ((r = opt_word(opt, val, m->words, m->n_words, &k)) == 0)
+			json_object_set_new(obj, m->key,
+			    json_string(m->words[k]));
+	} else if ((r = opt_num(opt, val, m->lo, m->hi, &x)) == 0)
+		json_object_set_new(obj, m->key, json_real(x));
+	return r;
 }

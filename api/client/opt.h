@@ -12,6 +12,8 @@
 
 #include <stdbool.h>
 
+#include <jansson.h>
+
 struct opt_def {
 	const char *name;	/* without the leading "--" */
 	bool has_value;
@@ -58,5 +60,15 @@ int opt_long(const char *name, const char *val, long lo, long hi,
  */
 int opt_word(const char *name, const char *val, const char *const *words,
     int n, int *ip);
+
+/*
+ * The options that several commands send as members of a JSON request,
+ * each checked as the daemon documents it (docs/api.md): name (without
+ * "--") is "objective" or "formulation" (a word of the policy's), or
+ * "headroom", "scale" or "time-limit" (a number; member "time_limit_s").
+ * Sets that member of obj from val and returns 0, or returns RC_USAGE
+ * after telling the user.
+ */
+int opt_member(const char *name, const char *val, json_t *obj);
 
 #endif /* WEFT_CLIENT_OPT_H */

@@ -1,6 +1,7 @@
 /* SPDX-License-Identifier: GPL-3.0-or-later */
 /* The plan summary for people, and what a scenario fails. */
 #include <math.h>
+#include <stdarg.h>
 #include <stdbool.h>
 #include <stdio.h>
 #include <string.h>
@@ -17,52 +18,59 @@
 #define EXPLAIN_ROWS	10
 
 static void
+bottleneck_row(struct table *t, const json_t *v, const void *ctx)
+{
+	char b[FMT_LEN];
+
+	show_direction_row(t, v, ctx);
+	table_cell(t, "%s", fmt_pct(b, js_num(v, "utilization")));
+	table_cell(t, "%s", fmt_num(b, js_num(v, "shadow_price")));
+}
+
+void
+show_direction_row(struct table *t, const json_t *v, const void *ctx)
+{
+	(void)ctx;
+	table_cell(t, "%s", js_str(v, "link", "?"));
+	table_cell(t, "%s", js_str(v, "from", "?"));
+	table_cell(t, "%s", js_str(v, "to", "?"));
+}
+
+void
+show_demand_row(struct table *t, const json_t *v, const void *ctx)
+{
+	char b[FMT_LEN];
+
+	(void)ctx;
+	table_cell(t, "%s", js_str(v, "src", "?"));
+	table_cell(t, "%s", js_str(v, "dst", "?"));
+	table_cell(t, "%lld", js_int(v, "priority", 0));
+	table_cell(t, "%s", fmt_bps(b, js_num(v, "rate_bps")));
+}
+
+static void
 explain(const json_t *x, FILE *f)
 {
 	static const char *const bh[] = { "LINK", "FROM", "TO", "UTIL",
 		"SHADOW PRICE" };
 	static const char *const ch[] = { "SRC", "DST", "PRIO", "RATE" };
-	json_t *bn = js_arr(x, "bottleneck"), *cut = js_arr(x, "cut_off"), *v;
-	struct table *t;
+	static const struct show_cols bottlenecks = { "lllrr", bh,
+		bottleneck_row };
+	static const struct show_cols cut_off = { "llrr", ch,
+		show_demand_row };
+	json_t *bn = js_arr(x, "bottleneck");
 	char b[FMT_LEN];
-	size_t i;
 
-	if (json_array_size(bn) > 0) {
-		fprintf(f, "bottlenecks (largest shadow price first):\n");
-		t = table_new(5, "lllrr", bh);
-		json_array_foreach(bn, i, v) {
-			if (i == EXPLAIN_ROWS)
-				break;
-			table_cell(t, "%s", js_str(v, "link", "?"));
-			table_cell(t, "%s", js_str(v, "from", "?"));
-			table_cell(t, "%s", js_str(v, "to", "?"));
-			table_cell(t, "%s", fmt_pct(b, js_num(v,
-			    "utilization")));
-			table_cell(t, "%s", fmt_num(b, js_num(v,
-			    "shadow_price")));
-		}
-		table_print(t, f, "  ");
-		table_free(t);
-		if (json_array_size(bn) > EXPLAIN_ROWS)
-			fprintf(f, "  ... %zu more\n",
-			    json_array_size(bn) - EXPLAIN_ROWS);
-	}
-	if (js_int(x, "cut_off_total", 0) > 0) {
-		fprintf(f, "demands cut off (no up path joins their ends): "
-		    "%lld, %s\n", js_int(x, "cut_off_total", 0),
+	show_list(f, &bottlenecks, bn, EXPLAIN_ROWS, NULL,
+	    "bottlenecks (largest shadow price first):");
+	if (json_array_size(bn) > EXPLAIN_ROWS)
+		fprintf(f, "  ... %zu more\n",
+		    json_array_size(bn) - EXPLAIN_ROWS);
+	if (js_int(x, "cut_off_total", 0) > 0)
+		show_list(f, &cut_off, js_arr(x, "cut_off"), EXPLAIN_ROWS,
+		    NULL, "demands cut off (no up path joins their ends): "
+		    "%lld, %s", js_int(x, "cut_off_total", 0),
 		    fmt_bps(b, js_num(x, "cut_off_bps")));
-		t = table_new(4, "llrr", ch);
-		json_array_foreach(cut, i, v) {
-			if (i == EXPLAIN_ROWS)
-				break;
-			table_cell(t, "%s", js_str(v, "src", "?"));
-			table_cell(t, "%s", js_str(v, "dst", "?"));
-			table_cell(t, "%lld", js_int(v, "priority", 0));
-			table_cell(t, "%s", fmt_bps(b, js_num(v, "rate_bps")));
-		}
-		table_print(t, f, "  ");
-		table_free(t);
-	}
 }
 
 /* "0: 1.00 Gbit/s, 3: 2.00 Gbit/s" for the priorities with unserved. */
@@ -227,4 +235,29 @@ show_fail(const json_t *fail, char *buf, size_t n)
 		}
 	}
 	return buf;
+}
+
+void
+show_list(FILE *f, const struct show_cols *cols, const json_t *arr,
+    long top, const void *ctx, const char *fmt, ...)
+{
+	struct table *t;
+	json_t *v;
+	va_list ap;
+	size_t i;
+
+	if (json_array_size(arr) == 0)
+		return;
+	va_start(ap, fmt);
+	vfprintf(f, fmt, ap);
+	va_end(ap);
+	fputc('\n', f);
+	t = table_new((int)strlen(cols->align), cols->align, cols->heads);
+	json_array_foreach(arr, i, v) {
+		if ((long)i == top)
+			break;
+		cols->row(t, v, ctx);
+	}
+	table_print(t, f, "  ");
+	table_free(t);
 }

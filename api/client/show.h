@@ -15,6 +15,7 @@
 #include <jansson.h>
 
 struct cli;
+struct table;
 
 /* Prints summary plan (GET /v1/plan's members) as "key  value" lines. */
 void show_plan(const json_t *plan, FILE *f);
@@ -39,6 +40,39 @@ int show_plan_rc(const json_t *plan);
  */
 int show_loads(const struct cli *c, const json_t *loads, long top,
     bool ascending, FILE *f);
+
+/* Adds the cells of one row of a show_list() table, for element v. */
+typedef void show_row_fn(struct table *t, const json_t *v, const void *ctx);
+
+/* The columns of a show_list() table. */
+struct show_cols {
+	const char *align;		/* one 'l' or 'r' per column */
+	const char *const *heads;	/* one header text per column */
+	show_row_fn *row;		/* adds one element's cells */
+};
+
+/*
+ * Prints the line fmt, ... (printf-style, without its newline), then
+ * the first top elements of array arr as a table of cols, one row each
+ * made by cols->row(t, element, ctx), indented by two spaces.  Prints
+ * nothing when arr is empty (or NULL).
+ */
+void show_list(FILE *f, const struct show_cols *cols, const json_t *arr,
+    long top, const void *ctx, const char *fmt, ...)
+    __attribute__((format(printf, 6, 7)));
+
+/*
+ * A show_row_fn for a demand: four cells, its "src", "dst", "priority"
+ * and "rate_bps" (columns SRC, DST, PRIO, RATE aligned "llrr"); ctx is
+ * not used.
+ */
+show_row_fn show_demand_row;
+
+/*
+ * A show_row_fn for a link direction: three cells, its "link", "from"
+ * and "to" (columns LINK, FROM, TO aligned "lll"); ctx is not used.
+ */
+show_row_fn show_direction_row;
 
 /*
  * What a scenario fails, from a sweep result's "fail" member:

@@ -8,6 +8,7 @@
 #include <jansson.h>
 
 struct cli;
+struct opt_def;
 
 #define SWEEP_INTERVAL_S	1.0	/* default time between polls */
 
@@ -33,7 +34,16 @@ int sweep_rc(const json_t *sw);
 /* Two lines: state and counts, the worst scenario, unserved ones. */
 void sweep_summary(const json_t *sw, FILE *f);
 
-/* Reads a sweep id argument ("sweep id"); 0 or RC_USAGE. */
-int sweep_id(const char *what, int argc, char **argv, long long *idp);
+/* Reads the value val of option k of a sweep command; 0 or RC_USAGE. */
+typedef int sweep_opt_fn(int k, const char *val, void *arg);
+
+/*
+ * Reads the command line of "sweep <what> ID": the one sweep id into
+ * *idp and, when defs is not NULL, the options of defs, each handed to
+ * fn(k, value, arg) as it comes.  Returns 0, or RC_USAGE after telling
+ * the user.
+ */
+int sweep_id(const char *what, int argc, char **argv,
+    const struct opt_def *defs, sweep_opt_fn *fn, void *arg, long long *idp);
 
 #endif /* WEFT_CLIENT_SWEEP_H */

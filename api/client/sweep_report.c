@@ -94,103 +94,82 @@ sweep_summary(const json_t *sw, FILE *f)
 		    fmt_bps(b, js_num(json_array_get(us, 0), "unserved_bps")));
 }
 
+/* A row of the unserved scenarios; ctx is the sweep. */
 static void
-unserved(const json_t *sw, long top, FILE *f)
+unserved_row(struct table *t, const json_t *v, const void *ctx)
 {
-	static const char *const heads[] = { "SCENARIO", "FAILS", "UNSERVED",
-		"MAX UTIL" };
-	json_t *us = js_arr(js_obj(sw, "report"), "unserved"), *v;
-	struct table *t;
 	char what[512], b[FMT_LEN];
-	size_t i;
 
-	if (json_array_size(us) == 0)
-		return;
-	fprintf(f, "scenarios that leave traffic unserved, worst first:\n");
-	t = table_new(4, "rlrr", heads);
-	json_array_foreach(us, i, v) {
-		if ((long)i == top)
-			break;
-		table_cell(t, "%lld", js_int(v, "index", -1));
-		table_cell(t, "%s", scenario(sw, js_int(v, "index", -1), what,
-		    sizeof(what)));
-		table_cell(t, "%s", fmt_bps(b, js_num(v, "unserved_bps")));
-		table_cell(t, "%s", fmt_pct(b, js_num(v, "max_utilization")));
-	}
-	table_print(t, f, "  ");
-	table_free(t);
+	table_cell(t, "%lld", js_int(v, "index", -1));
+	table_cell(t, "%s", scenario(ctx, js_int(v, "index", -1), what,
+	    sizeof(what)));
+	table_cell(t, "%s", fmt_bps(b, js_num(v, "unserved_bps")));
+	table_cell(t, "%s", fmt_pct(b, js_num(v, "max_utilization")));
 }
 
+/* A row of the link directions; ctx is the sweep. */
 static void
-links(const json_t *sw, long top, FILE *f)
+link_row(struct table *t, const json_t *v, const void *ctx)
 {
-	static const char *const heads[] = { "LINK", "FROM", "TO", "CAPACITY",
+	char what[512], b[FMT_LEN];
+
+	show_direction_row(t, v, ctx);
+	table_cell(t, "%s", fmt_bps(b, js_num(v, "capacity_bps")));
+	table_cell(t, "%s", fmt_bps(b, js_num(v, "live_load_bps")));
+	table_cell(t, "%s", fmt_bps(b, js_num(v, "worst_load_bps")));
+	table_cell(t, "%s", fmt_pct(b, js_num(v, "worst_utilization")));
+	table_cell(t, "%s", scenario(ctx, js_int(v, "worst_index", -1), what,
+	    sizeof(what)));
+	table_cell(t, "%s", fmt_bps(b, js_num(v, "needed_capacity_bps")));
+}
+
+/* The scenarios that leave traffic unserved, the worst link loads. */
+static void
+lists(const json_t *sw, long top, FILE *f)
+{
+	static const char *const uh[] = { "SCENARIO", "FAILS", "UNSERVED",
+		"MAX UTIL" };
+	static const char *const lh[] = { "LINK", "FROM", "TO", "CAPACITY",
 		"LIVE LOAD", "WORST LOAD", "WORST UTIL", "WORST WHEN",
 		"NEEDED" };
-	json_t *ls = js_arr(js_obj(sw, "report"), "links"), *v;
-	struct table *t;
-	char what[512], b[FMT_LEN];
-	size_t i;
+	static const struct show_cols unserved = { "rlrr", uh, unserved_row };
+	static const struct show_cols links = { "lllrrrrlr", lh, link_row };
+	json_t *rep = js_obj(sw, "report"), *ls = js_arr(rep, "links");
+	size_t n = json_array_size(ls);
 
-	if (json_array_size(ls) == 0)
-		return;
-	fprintf(f, "link directions by worst-case utilisation (%zu of %zu):\n",
-	    top > 0 && (size_t)top < json_array_size(ls) ? (size_t)top :
-	    json_array_size(ls), json_array_size(ls));
-	t = table_new(9, "lllrrrrlr", heads);
-	json_array_foreach(ls, i, v) {
-		if ((long)i == top)
-			break;
-		table_cell(t, "%s", js_str(v, "link", "?"));
-		table_cell(t, "%s", js_str(v, "from", "?"));
-		table_cell(t, "%s", js_str(v, "to", "?"));
-		table_cell(t, "%s", fmt_bps(b, js_num(v, "capacity_bps")));
-		table_cell(t, "%s", fmt_bps(b, js_num(v, "live_load_bps")));
-		table_cell(t, "%s", fmt_bps(b, js_num(v, "worst_load_bps")));
-		table_cell(t, "%s", fmt_pct(b, js_num(v, "worst_utilization")));
-		table_cell(t, "%s", scenario(sw, js_int(v, "worst_index", -1),
-		    what, sizeof(what)));
-		table_cell(t, "%s", fmt_bps(b, js_num(v,
-		    "needed_capacity_bps")));
-	}
-	table_print(t, f, "  ");
-	table_free(t);
+	show_list(f, &unserved, js_arr(rep, "unserved"), top, sw,
+	    "scenarios that leave traffic unserved, worst first:");
+	show_list(f, &links, ls, top, sw,
+	    "link directions by worst-case utilisation (%zu of %zu):",
+	    top > 0 && (size_t)top < n ? (size_t)top : n, n);
+}
+
+/* --top, the only option of sweep report. */
+static int
+top_opt(int k, const char *val, void *arg)
+{
+	(void)k;
+	return opt_long("--top", val, 1, 100000000L, arg);
 }
 
 int
 cmd_sweep_report(const struct cli *c, int argc, char **argv)
 {
-	enum { O_TOP };
 	static const struct opt_def defs[] = {
-		[O_TOP] = { "top", true },
+		{ "top", true },
 		{ NULL, false },
 	};
 	struct answer a = { 0 };
-	struct opts o;
-	const char *v, *id = NULL;
 	char *path = NULL, b[FMT_LEN], b2[FMT_LEN];
 	json_t *rep;
-	long top = 20, n;
-	int k, r;
+	long long id;
+	long top = 20;
+	int r;
 
-	opt_init(&o, argc, argv);
-	while ((k = opt_next(&o, defs, &v)) != OPT_END) {
-		if (k == OPT_BAD)
-			return RC_USAGE;
-		if (k == O_TOP) {
-			if ((r = opt_long("--top", v, 1, 100000000L,
-			    &top)) != 0)
-				return r;
-		} else if (id != NULL)
-			return msg_usage("sweep report takes one sweep id");
-		else
-			id = v;
-	}
-	if (id == NULL)
-		return msg_usage("sweep report needs a sweep id");
-	if ((r = opt_long("sweep id", id, 1, 0x7fffffffL, &n)) != 0)
+	if ((r = sweep_id("report", argc, argv, defs, top_opt, &top,
+	    &id)) != 0)
 		return r;
-	path = xasprintf("/v1/sweeps/%ld", n);
+	path = xasprintf("/v1/sweeps/%lld", id);
 	if ((r = fetch_get(c, path, &a)) != RC_OK)
 		goto out;
 	r = sweep_rc(a.json);
@@ -209,8 +188,7 @@ cmd_sweep_report(const struct cli *c, int argc, char **argv)
 	    rep != NULL ? "; headroom " : "",
 	    rep != NULL ? fmt_pct(b2, js_num(rep, "headroom")) : "");
 	sweep_summary(a.json, stdout);
-	unserved(a.json, top, stdout);
-	links(a.json, top, stdout);
+	lists(a.json, top, stdout);
 out:
 	free(path);
 	answer_clear(&a);

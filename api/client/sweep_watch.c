@@ -96,36 +96,27 @@ out:
 	return r;
 }
 
+/* --interval, the only option of sweep watch. */
+static int
+interval_opt(int k, const char *val, void *arg)
+{
+	(void)k;
+	return opt_num("--interval", val, 0.05, 3600, arg);
+}
+
 int
 cmd_sweep_watch(const struct cli *c, int argc, char **argv)
 {
-	enum { O_INTERVAL };
 	static const struct opt_def defs[] = {
-		[O_INTERVAL] = { "interval", true },
+		{ "interval", true },
 		{ NULL, false },
 	};
-	struct opts o;
-	const char *v, *id = NULL;
 	double interval = SWEEP_INTERVAL_S;
-	long n;
-	int k, r;
+	long long id;
+	int r;
 
-	opt_init(&o, argc, argv);
-	while ((k = opt_next(&o, defs, &v)) != OPT_END) {
-		if (k == OPT_BAD)
-			return RC_USAGE;
-		if (k == O_INTERVAL) {
-			if ((r = opt_num("--interval", v, 0.05, 3600,
-			    &interval)) != 0)
-				return r;
-		} else if (id != NULL)
-			return msg_usage("sweep watch takes one sweep id");
-		else
-			id = v;
-	}
-	if (id == NULL)
-		return msg_usage("sweep watch needs a sweep id");
-	if ((r = opt_long("sweep id", id, 1, 0x7fffffffL, &n)) != 0)
+	if ((r = sweep_id("watch", argc, argv, defs, interval_opt, &interval,
+	    &id)) != 0)
 		return r;
-	return sweep_watch(c, n, interval);
+	return sweep_watch(c, id, interval);
 }

@@ -1,6 +1,7 @@
 /* SPDX-License-Identifier: GPL-3.0-or-later */
 /* Waiting until the daemon has planned a model revision (--wait). */
 #include <errno.h>
+#include <stdarg.h>
 #include <stdio.h>
 #include <time.h>
 
@@ -11,15 +12,7 @@
 #include "fetch.h"
 #include "js.h"
 #include "show.h"
-
-static double
-now_s(void)
-{
-	struct timespec ts;
-
-	clock_gettime(CLOCK_MONOTONIC, &ts);
-	return (double)ts.tv_sec + (double)ts.tv_nsec / 1e9;
-}
+#include "../../daemon/base/clock.h"
 
 void
 wait_sleep(double s)
@@ -37,7 +30,7 @@ wait_plan(const struct cli *c, long long rev, json_t **planp)
 {
 	struct answer a = { 0 };
 	json_t *solver;
-	double end = now_s() + c->timeout_s;
+	double end = clock_ms() + c->timeout_s * 1e3;
 	int r;
 
 	*planp = NULL;
@@ -56,7 +49,7 @@ wait_plan(const struct cli *c, long long rev, json_t **planp)
 			r = RC_FAILED;
 			goto out;
 		}
-		if (now_s() >= end) {
+		if (clock_ms() >= end) {
 			msg("no plan for model revision %lld within %g s", rev,
 			    c->timeout_s);
 			r = RC_FAILED;
@@ -88,4 +81,22 @@ wait_report(const struct cli *c, long long rev)
 	r = show_plan_rc(plan);
 	json_decref(plan);
 	return r;
+}
+
+int
+wait_changed(const struct cli *c, const struct answer *a, bool wait,
+    const char *fmt, ...)
+{
+	long long rev = js_int(a->json, "model_revision", 0);
+	va_list ap;
+
+	if (c->json)
+		answer_print(a);
+	else {
+		va_start(ap, fmt);
+		vprintf(fmt, ap);
+		va_end(ap);
+		printf(" (model revision %lld)\n", rev);
+	}
+	return wait ? wait_report(c, rev) : RC_OK;
 }

@@ -3,8 +3,11 @@
 #ifndef WEFT_CLIENT_WAIT_H
 #define WEFT_CLIENT_WAIT_H
 
+#include <stdbool.h>
+
 #include <jansson.h>
 
+struct answer;
 struct cli;
 
 /*
@@ -22,6 +25,15 @@ int wait_plan(const struct cli *c, long long rev, json_t **planp);
  * (show_plan_rc); on failure wait_plan()'s code.
  */
 int wait_report(const struct cli *c, long long rev);
+
+/*
+ * Ends a write command whose answer a (2xx) carries the new
+ * "model_revision": prints a's body with c->json, else the line fmt, ...
+ * followed by " (model revision N)"; then, with wait, waits for the plan
+ * as wait_report() does.  Returns RC_OK, or wait_report()'s code.
+ */
+int wait_changed(const struct cli *c, const struct answer *a, bool wait,
+    const char *fmt, ...) __attribute__((format(printf, 4, 5)));
 
 #define WAIT_POLL_MS	100
 

@@ -14,8 +14,14 @@
  * says which one is shown.  New plans arrive through the event stream
  * (GET /v1/events, event "plan"); when the daemon has no stream (the
  * EventSource fails for good, as on a 404) the page polls GET /v1/plan
- * every POLL_MS instead.  Node positions are kept while the nodes and
- * their coordinates stay the same, so a new plan only recolours the map.
+ * every POLL_MS instead.  A daemon that wants a bearer token (docs/api.md,
+ * Authentication) answers 401: the page then shows a token field, keeps
+ * the token in sessionStorage only (never in a URL) and sends it as
+ * "Authorization: Bearer" with every later fetch.  An EventSource cannot
+ * send that header, so once a read has needed a token the page polls
+ * with fetch instead of streaming.  Node positions are kept while the
+ * nodes and their coordinates stay the same, so a new plan only recolours
+ * the map.
  * For tests, every direction's stroke carries data-link, data-dir and
  * data-util, and window.weftMap exposes the state.
  */
@@ -31,6 +37,7 @@
 	var PAIR_GAP = 13;		/* between parallel links of one pair */
 	var SVGNS = "http://www.w3.org/2000/svg";
 	var DEMANDS_SHOWN = 40;		/* per direction in the link panel */
+	var TOKEN_KEY = "weft.token";	/* in sessionStorage only */
 
 	var S = {
 		topo: null, policy: null, plan: null, loads: null, routes: null,
@@ -45,6 +52,8 @@
 		view: { k: 1, x: 0, y: 0 },
 		live: "connecting", es: null, pollTimer: null, sweepsRead: 0,
 		loading: false, again: false,
+		token: "",		/* bearer token, "" for none */
+		readsNeedToken: false,	/* a read without a token got 401 */
 	};
 	window.weftMap = { state: S, scale: weftScale };
 
@@ -97,25 +106,122 @@
 
 	/* ---- talking to the daemon ---- */
 
+	/* The headers of every request: the token when there is one. */
+	function authHeaders() {
+		var h = {};
+		if (S.token)
+			h.Authorization = "Bearer " + S.token;
+		return h;
+	}
+
 	/* Resolves to {status, body} (body parsed JSON or null); never throws
-	   for an HTTP error status. */
+	   for an HTTP error status.  A 401 or 403 asks for a token. */
 	function api(method, path, body) {
-		var opts = { method: method, headers: {} };
+		var opts = { method: method, headers: authHeaders() },
+		    sent = S.token;
 		if (body !== undefined) {
 			opts.body = JSON.stringify(body);
 			opts.headers["Content-Type"] = "application/json";
 		}
 		return fetch(path, opts).then(function (r) {
 			return r.text().then(function (t) {
-				var j = null;
+				var j = null, res;
 				try {
 					j = t ? JSON.parse(t) : null;
 				} catch (e) {
 					j = null;
 				}
-				return { status: r.status, body: j };
+				res = { status: r.status, body: j };
+				if (r.status === 401 || r.status === 403)
+					askToken(method, res, sent);
+				return res;
 			});
 		});
+	}
+
+	/* A GET of path with the token, as a blob: URL (an <img> or a link
+	   cannot send the header). */
+	function blobUrl(path) {
+		return fetch(path, { headers: authHeaders() }).then(function (r) {
+			if (!r.ok)
+				throw new Error("HTTP " + r.status);
+			return r.blob();
+		}).then(function (b) {
+			return URL.createObjectURL(b);
+		});
+	}
+
+	/* ---- the bearer token (docs/api.md, Authentication) ---- */
+
+	function loadToken() {
+		try {
+			S.token = window.sessionStorage.getItem(TOKEN_KEY) || "";
+		} catch (e) {
+			S.token = "";
+		}
+	}
+
+	function saveToken(t) {
+		S.token = t;
+		try {
+			if (t)
+				window.sessionStorage.setItem(TOKEN_KEY, t);
+			else
+				window.sessionStorage.removeItem(TOKEN_KEY);
+		} catch (e) {
+			/* No storage: the token lasts as long as the page. */
+		}
+	}
+
+	/* After a 401 or 403 (r) to method, sent with token sent (or none). */
+	function askToken(method, r, sent) {
+		var text;
+		if (r.status === 401 && sent) {
+			/* A bad token spoils every request, even open ones. */
+			if (S.token === sent)
+				saveToken("");
+			text = "The daemon did not accept the token (unknown or " +
+			    "revoked). Enter another one.";
+		} else if (r.status === 401) {
+			text = "The daemon wants a bearer token for this " +
+			    "(weftd token add makes one).";
+			if (method === "GET")
+				readsNeedToken();
+		} else {
+			text = "The token's role is too low for that; enter one " +
+			    "with a higher role.";
+		}
+		$("token-text").textContent = text;
+		$("token-box").hidden = false;
+		document.body.dataset.token = "wanted";
+	}
+
+	/* EventSource cannot send the token: poll with fetch from now on. */
+	function readsNeedToken() {
+		if (S.readsNeedToken)
+			return;
+		S.readsNeedToken = true;
+		if (S.es) {
+			S.es.close();
+			S.es = null;
+		}
+		startPolling();
+	}
+
+	function useToken(ev) {
+		var t = $("token-input").value.trim();
+		ev.preventDefault();
+		if (!/^[!-~]+$/.test(t)) {
+			$("token-text").textContent = "A token is one word of " +
+			    "printable ASCII.";
+			return;
+		}
+		saveToken(t);
+		$("token-input").value = "";
+		$("token-box").hidden = true;
+		document.body.dataset.token = "set";
+		loadLive();
+		loadSweeps();
 	}
 
 	function errText(r) {
@@ -952,7 +1058,14 @@
 				img.onload = function () {
 					document.body.dataset.sweepChart = String(s.id);
 				};
-				img.src = "/v1/sweeps/" + s.id + "/report.svg";
+				if (S.token) {
+					blobUrl("/v1/sweeps/" + s.id + "/report.svg")
+					    .then(function (u) {
+						img.src = u;
+					}, function () {});
+				} else {
+					img.src = "/v1/sweeps/" + s.id + "/report.svg";
+				}
 				img.hidden = false;
 			} else {
 				img.hidden = true;
@@ -971,6 +1084,26 @@
 			$("sweep-summary").textContent = "Sweep " + r.body.id +
 			    " started: " + r.body.total + " scenarios.";
 			loadSweeps();
+		});
+	}
+
+	/* A sweep's file link: with a token, fetched with it and opened. */
+	function openWithToken(ev) {
+		var a = this;
+		if (!S.token)
+			return;
+		ev.preventDefault();
+		blobUrl(a.getAttribute("href")).then(function (u) {
+			var t = el("a", { href: u, download: a.textContent });
+			document.body.appendChild(t);
+			t.click();
+			document.body.removeChild(t);
+			setTimeout(function () {
+				URL.revokeObjectURL(u);
+			}, 60000);
+		}, function (err) {
+			$("sweep-summary").textContent = "Cannot fetch " +
+			    a.textContent + ": " + err.message;
 		});
 	}
 
@@ -1039,7 +1172,9 @@
 		var ticks = 0;
 		if (S.pollTimer)
 			return;
-		setLive("polling", "live: polling every " + POLL_MS / 1000 + " s");
+		setLive("polling", "live: polling every " + POLL_MS / 1000 + " s" +
+		    (S.readsNeedToken ? " (the event stream takes no token)" :
+		    ""));
 		S.pollTimer = setInterval(function () {
 			api("GET", "/v1/plan").then(function (r) {
 				if (r.status === 200 && (!S.plan ||
@@ -1122,6 +1257,11 @@
 			});
 		});
 		$("whatif-form").addEventListener("submit", runWhatif);
+		$("token-form").addEventListener("submit", useToken);
+		["sweep-links-csv", "sweep-results-csv", "sweep-svg"].forEach(
+		    function (id) {
+			$(id).addEventListener("click", openWithToken);
+		});
 		$("wf-clear").addEventListener("click", function () {
 			$("wf-links").selectedIndex = -1;
 			$("wf-nodes").selectedIndex = -1;
@@ -1141,6 +1281,7 @@
 			render();
 		});
 		setupZoom();
+		loadToken();
 		loadLive();
 		loadSweeps();
 		startEvents();

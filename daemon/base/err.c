@@ -25,6 +25,8 @@ static const struct {
 	{ ERR_TIMEOUT, "timeout", "time limit reached" },
 	{ ERR_MEDIATYPE, "unsupported_media_type", "unsupported content type" },
 	{ ERR_METHOD, "method_not_allowed", "method not allowed" },
+	{ ERR_UNAUTHORIZED, "unauthorized", "authentication required" },
+	{ ERR_FORBIDDEN, "forbidden", "the token's role does not allow this" },
 };
 
 static int

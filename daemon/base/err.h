@@ -22,6 +22,8 @@ enum {
 	ERR_TIMEOUT = -11,	/* a time limit passed with no usable result */
 	ERR_MEDIATYPE = -12,	/* the request body has the wrong content type */
 	ERR_METHOD = -13,	/* the route exists but not with this method */
+	ERR_UNAUTHORIZED = -14,	/* no valid credentials with the request */
+	ERR_FORBIDDEN = -15,	/* valid credentials, too weak a role */
 };
 
 #define ERR_WHERE_MAX	128

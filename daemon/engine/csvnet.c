@@ -344,9 +344,11 @@ known_node(struct ctx *c, size_t k, const char *what)
 	return 0;
 }
 
+/* Checks a new node's or link's id: given, not too long, fit for JSON. */
 static int
 check_id(struct ctx *c, size_t k, const char *what)
 {
+	const char *why;
 	int r;
 
 	if ((r = need(c, k, what)) != 0)
@@ -354,6 +356,10 @@ check_id(struct ctx *c, size_t k, const char *what)
 	if (fld(c, k)->n > MODEL_ID_MAX)
 		return fail(c, "%s is longer than %d bytes", what,
 		    MODEL_ID_MAX);
+	if ((why = model_text_problem(fld(c, k)->s, fld(c, k)->n,
+	    true)) != NULL)
+		return fail(c, "%s %s: \"%.*s\"", what, why,
+		    SHOW(fld(c, k)));
 	return 0;
 }
 
@@ -366,6 +372,7 @@ node_row(struct ctx *c)
 	struct err le = { 0 };
 	const struct field *name = fld(c, 2), *lat = fld(c, 3);
 	const struct field *lon = fld(c, 4);
+	const char *why;
 	double vlat = 0, vlon = 0;
 	size_t idx;
 	int r;
@@ -375,6 +382,8 @@ node_row(struct ctx *c)
 	if (name->n > CSVNET_NAME_MAX)
 		return fail(c, "node name is longer than %d bytes",
 		    CSVNET_NAME_MAX);
+	if ((why = model_text_problem(name->s, name->n, false)) != NULL)
+		return fail(c, "node name %s", why);
 	if ((lat->n == 0) != (lon->n == 0))
 		return fail(c, "give both lat and lon, or neither");
 	if (lat->n > 0) {

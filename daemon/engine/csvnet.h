@@ -18,7 +18,8 @@
  * or left out.  Rows come in any order.  Lines starting with '#' are
  * comments, blank rows (also ",,,,") are skipped, trailing empty fields are
  * ignored, unquoted fields are trimmed, CRLF or LF ends a row, and a UTF-8
- * byte order mark at the start is skipped.
+ * byte order mark at the start is skipped.  Ids and names are UTF-8, and
+ * ids hold no '/' (as the API's ids, see model_text_problem()).
  *
  * Any thread may call these functions; they share no state.
  */

@@ -183,6 +183,13 @@ solve_opts_default(struct solve_opts *o)
 	o->export_path = NULL;
 	o->export_stage = -1;
 	o->export_format = EXPORT_LP;
+	o->cancel = NULL;
+}
+
+bool
+solve_cancelled(const struct solve_opts *o)
+{
+	return o->cancel != NULL && atomic_load(o->cancel);
 }
 
 /* Fills the summary fields the node-arc formulation leaves unset. */

@@ -36,6 +36,9 @@
  * congestion stage yet: that objective is always solved node-arc.
  */
 
+#include <stdatomic.h>
+#include <stdbool.h>
+
 #include "model.h"
 #include "plan.h"
 
@@ -55,10 +58,17 @@ struct solve_opts {
 	const char *export_path;
 	int export_stage;
 	enum export_format export_format;
+	/* Cancel: when set, another thread may make *cancel true; the
+	   solve then ends with ERR_TIMEOUT at its next LP call or column
+	   generation round (a simplex call already running finishes). */
+	const atomic_bool *cancel;
 };
 
-/* Fills o with the defaults: no time limit, quiet, no export. */
+/* Fills o with the defaults: no time limit, quiet, no export, no cancel. */
 void solve_opts_default(struct solve_opts *o);
+
+/* Whether o's solve was cancelled (see struct solve_opts). */
+bool solve_cancelled(const struct solve_opts *o);
 
 /*
  * Checks m (ids, ranges, references, policy), builds the LP and solves it.

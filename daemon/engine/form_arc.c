@@ -61,13 +61,13 @@
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
-#include <time.h>
 
 #include "form_arc.h"
 #include "congestion.h"
 #include "decomp.h"
 #include "heap.h"
 #include "lp.h"
+#include "../base/clock.h"
 #include "../base/err.h"
 #include "../base/log.h"
 #include "../base/xalloc.h"
@@ -122,15 +122,6 @@ struct arcform {
 	bool named;		/* rows and columns have names */
 	bool exported;
 };
-
-static double
-now_ms(void)
-{
-	struct timespec ts;
-
-	clock_gettime(CLOCK_MONOTONIC, &ts);
-	return (double)ts.tv_sec * 1e3 + (double)ts.tv_nsec / 1e6;
-}
 
 /* ---- building the LP ---- */
 
@@ -379,6 +370,9 @@ run_lp(struct arcform *f, const char *name, enum lp_method method,
 	struct lp_params prm;
 	int r;
 
+	if (solve_cancelled(f->o))
+		return err_set(e, ERR_TIMEOUT, NULL,
+		    "the solve was cancelled before stage %s", name);
 	if (may_export && wants_export(f, last) &&
 	    (r = export_lp(f, name, e)) != 0)
 		return r;
@@ -387,7 +381,7 @@ run_lp(struct arcform *f, const char *name, enum lp_method method,
 	prm.verbose = f->o->verbose;
 	if (f->o->time_limit_s > 0) {
 		prm.time_limit_s = f->o->time_limit_s -
-		    (now_ms() - f->t0) / 1e3;
+		    (clock_ms() - f->t0) / 1e3;
 		if (prm.time_limit_s <= 0)
 			return err_set(e, ERR_TIMEOUT, NULL,
 			    "time limit of %g s passed before stage %s",
@@ -1167,7 +1161,7 @@ form_arc_solve(const struct model *m, const struct solve_opts *o,
 	memset(&f, 0, sizeof(f));
 	f.m = m;
 	f.o = o;
-	f.t0 = now_ms();
+	f.t0 = clock_ms();
 	for (r = 0; r <= MODEL_PRIO_MAX; r++)
 		f.vcol[r] = -1;
 	p = xcalloc(1, sizeof(*p));
@@ -1211,7 +1205,7 @@ form_arc_solve(const struct model *m, const struct solve_opts *o,
 		routes_from_lp(&f);
 		plan_finish(m, p, false, f.price, f.sat);
 	}
-	p->solve_ms = now_ms() - f.t0;
+	p->solve_ms = clock_ms() - f.t0;
 	*planp = p;
 	p = NULL;
 	r = 0;

@@ -68,23 +68,14 @@
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
-#include <time.h>
 
 #include "form_path.h"
 #include "form_path_int.h"
 #include "lp.h"
+#include "../base/clock.h"
 #include "../base/err.h"
 #include "../base/log.h"
 #include "../base/xalloc.h"
-
-static double
-now_ms(void)
-{
-	struct timespec ts;
-
-	clock_gettime(CLOCK_MONOTONIC, &ts);
-	return (double)ts.tv_sec * 1e3 + (double)ts.tv_nsec / 1e6;
-}
 
 /* ---- stages ---- */
 
@@ -152,7 +143,7 @@ static bool
 late(const struct engine_state *st)
 {
 	return st->o->time_limit_s > 0 &&
-	    now_ms() - st->t0 >= st->o->time_limit_s * 1e3;
+	    clock_ms() - st->t0 >= st->o->time_limit_s * 1e3;
 }
 
 /*
@@ -169,7 +160,7 @@ cg(struct engine_state *st, enum mode md, int prio, bool exact,
 	double unit = unit_of_stage(st, uk, false);
 	struct lp_params prm;
 	struct lp_result res;
-	double t0 = now_ms(), z = 0, L = -INFINITY, gap = INFINITY, floor;
+	double t0 = clock_ms(), z = 0, L = -INFINITY, gap = INFINITY, floor;
 	int rounds = 0, iters = 0, r;
 	size_t added;
 	bool last = md == M_COST || md == M_KEEP;
@@ -177,6 +168,9 @@ cg(struct engine_state *st, enum mode md, int prio, bool exact,
 	set_obj(st, md, prio);
 	floor = ZERO_REL * fmax(1, st->demand_lp);
 	for (;;) {
+		if (solve_cancelled(st->o))
+			return err_set(e, ERR_TIMEOUT, NULL,
+			    "the solve was cancelled in stage %s", name);
 		if (late(st)) {
 			/* A last stage that has a solution may stop here. */
 			if (last && rounds > 0)
@@ -191,7 +185,7 @@ cg(struct engine_state *st, enum mode md, int prio, bool exact,
 		prm.verbose = st->o->verbose;
 		if (st->o->time_limit_s > 0)
 			prm.time_limit_s = st->o->time_limit_s -
-			    (now_ms() - st->t0) / 1e3;
+			    (clock_ms() - st->t0) / 1e3;
 		r = lp_solve(st->lp, &prm, &res);
 		iters += res.iterations;
 		if (r == ERR_TIMEOUT)
@@ -237,7 +231,7 @@ cg(struct engine_state *st, enum mode md, int prio, bool exact,
 	 * the exported node-arc LP even when the kept master's units differ.
 	 */
 	return record(st, name, z * unit, z * unit /
-	    unit_of_stage(st, uk, true), iters, now_ms() - t0, e);
+	    unit_of_stage(st, uk, true), iters, clock_ms() - t0, e);
 }
 
 /* Pins each u of class prio (all classes: -1) where it is now. */
@@ -448,7 +442,7 @@ keep(struct engine_state *st, double z, struct err *e)
 static int
 shortcut(struct engine_state *st, bool *donep, struct err *e)
 {
-	double z, L, t0 = now_ms();
+	double z, L, t0 = clock_ms();
 	size_t k;
 	int p, r, n0 = st->p->n_stages;
 
@@ -477,14 +471,14 @@ shortcut(struct engine_state *st, bool *donep, struct err *e)
 		return r;
 	if (sum_unserved(st) > ZERO_REL * fmax(1, st->demand_lp)) {
 		/* It no longer fits under the cap: the full stages decide. */
-		log_debug("warm shortcut failed after %.1f ms", now_ms() - t0);
+		log_debug("warm shortcut failed after %.1f ms", clock_ms() - t0);
 		st->p->n_stages = n0;
 		st->admit_U = true;
 		return 0;
 	}
 	pin_unserved(st, -1);
 	st->all_fit = true;
-	st->p->stages[n0 + 2].ms = now_ms() - t0;
+	st->p->stages[n0 + 2].ms = clock_ms() - t0;
 	*donep = true;
 	return 0;
 }
@@ -1027,7 +1021,7 @@ form_path_solve(struct engine_state **stp, const struct model *m,
 	st->m = m;
 	st->o = o;
 	st->p = p;
-	st->t0 = now_ms();
+	st->t0 = clock_ms();
 	st->iters = 0;
 	st->rounds = 0;
 	st->gap = 0;
@@ -1065,7 +1059,7 @@ done:
 	p->iterations = st->iters;
 	p->cg_rounds = st->rounds;
 	p->columns = st->n_committed;
-	p->solve_ms = now_ms() - st->t0;
+	p->solve_ms = clock_ms() - st->t0;
 	log_debug("path solve warm=%d rounds=%d iterations=%d columns=%zu "
 	    "gap=%.3g ms=%.1f", (int)p->warm, p->cg_rounds, p->iterations,
 	    p->columns, p->gap, p->solve_ms);

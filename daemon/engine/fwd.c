@@ -313,7 +313,9 @@ fwd_build(const struct model *m, const struct plan *p, struct fwd **fp,
 	}
 	cmp_model = NULL;
 
-	qsort(f->entries, f->n_entries, sizeof(*f->entries), cmp_entry);
+	if (f->n_entries > 0)
+		qsort(f->entries, f->n_entries, sizeof(*f->entries),
+		    cmp_entry);
 	f->node_first = xcalloc(m->n_nodes + 1, sizeof(*f->node_first));
 	for (i = 0; i < f->n_entries; i++)
 		f->node_first[f->entries[i].node + 1]++;

@@ -18,12 +18,13 @@
 #include <stdint.h>
 #include <stdlib.h>
 #include <string.h>
-#include <time.h>
 
 #include <glpk.h>
 
 #include "lp.h"
+#include "../base/clock.h"
 #include "../base/err.h"
+#include "../base/fault.h"
 #include "../base/log.h"
 #include "../base/xalloc.h"
 
@@ -527,15 +528,6 @@ lp_scale(struct lp *lp)
 
 /* ---- solving ---- */
 
-static double
-now_ms(void)
-{
-	struct timespec ts;
-
-	clock_gettime(CLOCK_MONOTONIC, &ts);
-	return (double)ts.tv_sec * 1e3 + (double)ts.tv_nsec / 1e6;
-}
-
 static enum lp_status
 status_of(int s)
 {
@@ -580,7 +572,7 @@ simplex(struct lp *lp, int meth, const struct lp_params *p, double t0)
 	if (meth != GLP_PRIMAL)
 		parm.r_test = GLP_RT_FLIP;
 	if (p->time_limit_s > 0) {
-		left = p->time_limit_s * 1e3 - (now_ms() - t0);
+		left = p->time_limit_s * 1e3 - (clock_ms() - t0);
 		if (left < 1)
 			return GLP_ETMLIM;
 		parm.tm_lim = left > INT32_MAX ? INT32_MAX : (int)left;
@@ -591,11 +583,20 @@ simplex(struct lp *lp, int meth, const struct lp_params *p, double t0)
 int
 lp_solve(struct lp *lp, const struct lp_params *p, struct lp_result *res)
 {
-	double t0 = now_ms();
+	double t0 = clock_ms();
 	int it0, ret, r = ERR_INTERNAL;
+#ifdef WEFT_FAULTS
+	char fault_arg[16];
+#endif
 
 	memset(res, 0, sizeof(*res));
 	res->status = LP_UNDEFINED;
+#ifdef WEFT_FAULTS
+	/* Test builds: "lp_solve:timeout" or "lp_solve" (a failure). */
+	if (fault_hit("lp_solve", fault_arg, sizeof(fault_arg)))
+		return strcmp(fault_arg, "timeout") == 0 ? ERR_TIMEOUT :
+		    ERR_SOLVER;
+#endif
 	term_begin(p->verbose);
 	it0 = glp_get_it_cnt(lp->P);
 	ret = simplex(lp, p->method == LP_DUAL ? GLP_DUALP : GLP_PRIMAL, p,
@@ -613,7 +614,7 @@ lp_solve(struct lp *lp, const struct lp_params *p, struct lp_result *res)
 	res->status = status_of(glp_get_status(lp->P));
 	res->iterations = glp_get_it_cnt(lp->P) - it0;
 	res->objective = glp_get_obj_val(lp->P);
-	res->ms = now_ms() - t0;
+	res->ms = clock_ms() - t0;
 	switch (ret) {
 	case 0:
 		r = 0;

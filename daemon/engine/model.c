@@ -493,6 +493,50 @@ model_set_link_srlgs(struct model *m, size_t i, const uint32_t *s,
 	return 0;
 }
 
+const char *
+model_text_problem(const char *s, size_t n, bool is_id)
+{
+	const unsigned char *p = (const unsigned char *)s;
+	unsigned char lo, hi;
+	size_t i = 0, k, more;
+
+	while (i < n) {
+		if (p[i] < 0x80) {
+			if (is_id && p[i] == '/')
+				return "must not contain '/'";
+			i++;
+			continue;
+		}
+		/* RFC 3629, section 4: the second byte's range depends on
+		   the first; the others are 80..BF. */
+		lo = 0x80;
+		hi = 0xbf;
+		if (p[i] >= 0xc2 && p[i] <= 0xdf)
+			more = 1;
+		else if (p[i] >= 0xe0 && p[i] <= 0xef) {
+			more = 2;
+			if (p[i] == 0xe0)
+				lo = 0xa0;
+			else if (p[i] == 0xed)
+				hi = 0x9f;
+		} else if (p[i] >= 0xf0 && p[i] <= 0xf4) {
+			more = 3;
+			if (p[i] == 0xf0)
+				lo = 0x90;
+			else if (p[i] == 0xf4)
+				hi = 0x8f;
+		} else
+			return "is not valid UTF-8";
+		if (n - i <= more || p[i + 1] < lo || p[i + 1] > hi)
+			return "is not valid UTF-8";
+		for (k = 2; k <= more; k++)
+			if (p[i + k] < 0x80 || p[i + k] > 0xbf)
+				return "is not valid UTF-8";
+		i += more + 1;
+	}
+	return NULL;
+}
+
 bool
 link_in_srlg(const struct link *l, uint32_t g)
 {

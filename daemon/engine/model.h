@@ -182,6 +182,16 @@ int model_set_link_srlgs(struct model *m, size_t i, const uint32_t *s,
 /* Whether link l is in SRLG g. */
 bool link_in_srlg(const struct link *l, uint32_t g);
 
+/*
+ * Checks text s[0 .. n-1] from an importer against what the API carries:
+ * valid UTF-8 (RFC 3629, as JSON needs: no overlong forms, no surrogates,
+ * nothing past U+10FFFF) and, for an id (is_id), no '/', which a path
+ * segment such as /v1/links/{id} cannot hold.  Returns NULL when s is
+ * fine, else a constant phrase saying what is wrong ("is not valid
+ * UTF-8").
+ */
+const char *model_text_problem(const char *s, size_t n, bool is_id);
+
 /* Looks up a node or link id: returns its index or -1. */
 long model_find_node(const struct model *m, const char *id);
 long model_find_link(const struct model *m, const char *id);

@@ -227,7 +227,10 @@ plandiff_compute(const struct model *old_m, const struct plan *old_p,
 			j++;
 		}
 	}
-	qsort(d->demands, d->n_demands, sizeof(*d->demands), cmp_diff);
+	/* qsort() must not see the NULL of an empty list (C11 7.1.4). */
+	if (d->n_demands > 1)
+		qsort(d->demands, d->n_demands, sizeof(*d->demands),
+		    cmp_diff);
 	big = fmax(d->old_carried_bps, d->new_carried_bps);
 	d->moved_share = big > 0 ? d->moved_bps / big : 0;
 	*dp = d;

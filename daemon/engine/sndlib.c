@@ -269,6 +269,7 @@ static int
 id(struct ctx *c, char *buf, const char *what)
 {
 	struct span t;
+	const char *why;
 	int r;
 
 	if ((r = word(c, &t, what)) != 0)
@@ -276,6 +277,9 @@ id(struct ctx *c, char *buf, const char *what)
 	if (t.n > MODEL_ID_MAX)
 		return fail(c, "%s is longer than %d bytes", what,
 		    MODEL_ID_MAX);
+	/* Ids reach JSON and URL paths: UTF-8, no '/'. */
+	if ((why = model_text_problem(t.s, t.n, true)) != NULL)
+		return fail(c, "%s %s: \"%.*s\"", what, why, SHOW(t));
 	memcpy(buf, t.s, t.n);
 	buf[t.n] = '\0';
 	return 0;

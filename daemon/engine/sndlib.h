@@ -33,8 +33,9 @@
  * NODES, LINKS and DEMANDS are required.  Lines whose first non-blank
  * character is '#' are comments; a first line starting with '?' is the
  * format banner.  Everything else is an error, reported with where set to
- * "line N" (1-based).  Ids of each kind (node, link, demand) are unique and
- * at most MODEL_ID_MAX bytes; numbers are finite decimals without sign
+ * "line N" (1-based).  Ids of each kind (node, link, demand) are unique,
+ * at most MODEL_ID_MAX bytes, UTF-8 and without '/' (as the API's ids, see
+ * model_text_problem()); numbers are finite decimals without sign
  * (coordinates may be negative).
  *
  * The input need not be NUL-terminated and may contain anything: the

@@ -668,13 +668,30 @@ CASES = [test_page_files, test_live_map, test_table_sorts, test_link_details, te
 def start_browser(profile):
     from selenium import webdriver
     from selenium.webdriver.chrome.service import Service
+
+    class LoopbackService(Service):
+        """chromedriver reached at 127.0.0.1, not at "localhost", which a
+        minimal system without /etc/hosts cannot resolve."""
+
+        @property
+        def service_url(self):
+            return "http://127.0.0.1:%d" % self.port
+
+        def is_connectable(self):
+            import socket
+            try:
+                socket.create_connection(("127.0.0.1", self.port), timeout=1).close()
+                return True
+            except OSError:
+                return False
+
     o = webdriver.ChromeOptions()
     o.binary_location = CHROMIUM
     for a in ("--headless=new", "--no-sandbox", "--disable-gpu", "--disable-dev-shm-usage", "--hide-scrollbars",
               "--window-size=1400,1000", "--user-data-dir=" + profile, "--no-first-run",
               "--disable-extensions", "--disable-background-networking", "--lang=en-GB"):
         o.add_argument(a)
-    b = webdriver.Chrome(service=Service(CHROMEDRIVER), options=o)
+    b = webdriver.Chrome(service=LoopbackService(CHROMEDRIVER), options=o)
     b.set_page_load_timeout(60)
     b.set_script_timeout(60)
     return b

@@ -30,20 +30,20 @@ import json
 import os
 import queue
 import shutil
-import signal
 import subprocess
 import sys
 import tempfile
 import threading
 import time
-import traceback
 import urllib.parse
 import urllib.request
 
 ROOT = os.path.dirname(os.path.dirname(os.path.dirname(os.path.abspath(__file__))))
 sys.path.insert(0, os.path.join(ROOT, "tests", "lib"))
 os.environ.pop("WEFT_TEST_ADDR", None)
-from weftd import Daemon, free_port  # noqa: E402
+from weftd import Daemon, free_port, stop_process  # noqa: E402
+import cases  # noqa: E402
+from cases import Fail, check  # noqa: E402
 
 CASE_TIMEOUT_S = 120
 PROMETHEUS = "/usr/bin/prometheus"
@@ -90,15 +90,6 @@ HAND_UTIL = {("L_AB", "A", "B"): 1.0, ("L_BD", "B", NODE_D): 1.0,
 
 D = None        # the daemon
 PROM = None     # the Prometheus server
-
-
-class Fail(Exception):
-    pass
-
-
-def check(cond, what):
-    if not cond:
-        raise Fail(what)
 
 
 def ok200(r, what):
@@ -205,12 +196,7 @@ class Prometheus:
 
     def stop(self):
         if self.proc is not None:
-            self.proc.terminate()
-            try:
-                self.proc.wait(timeout=20)
-            except subprocess.TimeoutExpired:
-                self.proc.kill()
-                self.proc.wait()
+            stop_process(self.proc, 20)
             self.proc = None
             self.log.close()
         shutil.rmtree(self.tmp, ignore_errors=True)
@@ -664,17 +650,9 @@ def test_events_bound():
 
 # ---------------------------------------------------------------------------
 
-def alarm(signum, frame):
-    raise Fail("case took longer than %d s" % CASE_TIMEOUT_S)
-
-
 def main():
     global D, PROM
-    names = [n for n in globals() if n.startswith("test_")]
-    order = sorted(names, key=lambda n: globals()[n].__code__.co_firstlineno)
-    if len(sys.argv) > 1:
-        order = [n for n in order if any(a in n for a in sys.argv[1:])]
-    signal.signal(signal.SIGALRM, alarm)
+    order = cases.select(globals(), sys.argv[1:])
     failed = 0
     D = Daemon(extra_args=["--long-poll-max", str(LONG_POLL_MAX),
                            "--long-poll-max-s", str(LONG_POLL_MAX_S),
@@ -687,46 +665,20 @@ def main():
                     "policy")["model_revision"]
         D.wait_plan(rev, timeout=60, verify=False)
         PROM = Prometheus(D.base[len("http://"):])
-        for i, name in enumerate(order, 1):
-            signal.alarm(CASE_TIMEOUT_S)
-            try:
-                globals()[name]()
-                print("ok %d - %s" % (i, name))
-            except Exception as exc:
-                failed += 1
-                print("not ok %d - %s" % (i, name))
-                for line in traceback.format_exception(type(exc), exc, exc.__traceback__)[-3:]:
-                    for l in line.rstrip().splitlines():
-                        print("# " + l)
-            finally:
-                signal.alarm(0)
-            sys.stdout.flush()
-        n = len(order) + 1
-        D.proc.terminate()
-        try:
-            rc = D.proc.wait(timeout=30)
-        except Exception:
-            rc = None
-        if rc == 0:
-            print("ok %d - daemon_exits_cleanly" % n)
-        else:
+        failed = cases.run(globals(), order, CASE_TIMEOUT_S)
+        if not cases.exits_cleanly(D, len(order) + 1):
             failed += 1
-            print("not ok %d - daemon_exits_cleanly # exit code %r" % (n, rc))
         order.append("daemon_exits_cleanly")
     finally:
-        if failed and D.tmp:
-            print("# daemon log (last lines):")
-            for l in D.log_text().splitlines()[-15:]:
-                print("# " + l)
+        if failed:
+            cases.log_tail(D, 15)
         if PROM is not None:
             if failed:
                 for l in PROM.log_text().splitlines()[-5:]:
                     print("# prometheus: " + l)
             PROM.stop()
         D.stop()
-    print("1..%d" % len(order))
-    print("%d passed, %d failed" % (len(order) - failed, failed))
-    return 1 if failed else 0
+    return cases.finish(order, failed)
 
 
 if __name__ == "__main__":

@@ -19,11 +19,12 @@ import re
 import signal
 import sys
 import time
-import traceback
 
 ROOT = os.path.dirname(os.path.dirname(os.path.dirname(os.path.abspath(__file__))))
 sys.path.insert(0, os.path.join(ROOT, "tests", "lib"))
 from weftd import Daemon  # noqa: E402
+import cases  # noqa: E402
+from cases import Fail, Skip, check  # noqa: E402
 
 CASE_TIMEOUT_S = 120
 MAX_BODY = 256 * 1024          # --max-body of the shared daemon
@@ -76,22 +77,9 @@ TM = {"demands": [{"src": "A", "dst": "D", "rate_bps": 15e9, "priority": 0}]}
 D = None        # the shared daemon, started by main()
 
 
-class Fail(Exception):
-    pass
-
-
-class Skip(Exception):
-    pass
-
-
 def own_daemon_needed():
     if EXTERNAL:
         raise Skip("needs a daemon of its own; WEFT_TEST_ADDR is set")
-
-
-def check(cond, what):
-    if not cond:
-        raise Fail(what)
 
 
 def near(got, want, what, rel=REL):
@@ -1413,66 +1401,30 @@ def test_sweep_survives_restart():
 
 # ---------------------------------------------------------------------------
 
-def alarm(signum, frame):
-    raise Fail("case took longer than %d s" % CASE_TIMEOUT_S)
+def tiny_installed(name):
+    """Every case but the first sees the tiny network installed."""
+    if name != "test_health" and health()["model_revision"] == 0:
+        setup_tiny(D)
 
 
 def main():
     global D
-    names = [n for n in globals() if n.startswith("test_")]
-    order = sorted(names, key=lambda n: globals()[n].__code__.co_firstlineno)
-    if len(sys.argv) > 1:
-        order = [n for n in order if any(a in n for a in sys.argv[1:])]
-    signal.signal(signal.SIGALRM, alarm)
+    order = cases.select(globals(), sys.argv[1:])
     failed = 0
     D = Daemon(extra_args=["--max-body", str(MAX_BODY)])
     try:
-        for i, name in enumerate(order, 1):
-            signal.alarm(CASE_TIMEOUT_S)
-            try:
-                # Every case but the first sees the tiny network installed.
-                if name != "test_health" and health()["model_revision"] == 0:
-                    setup_tiny(D)
-                globals()[name]()
-                print("ok %d - %s" % (i, name))
-            except Skip as exc:
-                print("ok %d - %s # SKIP %s" % (i, name, exc))
-            except Exception as exc:
-                failed += 1
-                print("not ok %d - %s" % (i, name))
-                for line in traceback.format_exception(type(exc), exc, exc.__traceback__)[-3:]:
-                    for l in line.rstrip().splitlines():
-                        print("# " + l)
-            finally:
-                signal.alarm(0)
-            sys.stdout.flush()
+        failed = cases.run(globals(), order, CASE_TIMEOUT_S, before=tiny_installed)
         if D.proc is not None:
             # Last case: the shared daemon stops cleanly on SIGTERM, and a
             # sanitizer build reports nothing (its report lands in the log).
-            n = len(order) + 1
-            D.proc.terminate()
-            try:
-                rc = D.proc.wait(timeout=30)
-            except Exception:
-                rc = None
-            bad = [l for l in D.log_text().splitlines() if "Sanitizer" in l or "runtime error" in l]
-            if rc == 0 and not bad:
-                print("ok %d - daemon_exits_cleanly" % n)
-            else:
+            if not cases.exits_cleanly(D, len(order) + 1, scan_log=True):
                 failed += 1
-                print("not ok %d - daemon_exits_cleanly" % n)
-                print("# exit code %r; %s" % (rc, bad[:3]))
             order.append("daemon_exits_cleanly")
     finally:
-        if failed and D.tmp:
-            print("# daemon log (last lines):")
-            for l in D.log_text().splitlines()[-15:]:
-                print("# " + l)
+        if failed:
+            cases.log_tail(D, 15)
         D.stop()
-    print("1..%d" % len(order))
-    if failed:
-        print("# %d of %d failed" % (failed, len(order)))
-    return 1 if failed else 0
+    return cases.finish(order, failed)
 
 
 if __name__ == "__main__":

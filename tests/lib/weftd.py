@@ -27,6 +27,17 @@ def free_port():
         return s.getsockname()[1]
 
 
+def stop_process(proc, timeout):
+    """Ends the subprocess proc: SIGTERM, then SIGKILL if it is still
+    running after timeout seconds."""
+    proc.terminate()
+    try:
+        proc.wait(timeout=timeout)
+    except subprocess.TimeoutExpired:
+        proc.kill()
+        proc.wait()
+
+
 class Reply:
     def __init__(self, status, headers, body):
         self.status = status
@@ -171,12 +182,7 @@ class Daemon:
 
     def stop(self):
         if self.proc is not None:
-            self.proc.terminate()
-            try:
-                self.proc.wait(timeout=10)
-            except subprocess.TimeoutExpired:
-                self.proc.kill()
-                self.proc.wait()
+            stop_process(self.proc, 10)
             self.proc = None
             self.log.close()
         if self.tmp is not None and not getattr(self, "keep_log", False):

@@ -258,8 +258,8 @@ test_new_file(void)
 	ASSERT_SHELL(path, "PRAGMA user_version;", want);
 	ASSERT_SHELL(path, "SELECT group_concat(name, ' ') FROM (SELECT name "
 	    "FROM sqlite_master WHERE type = 'table' ORDER BY name);",
-	    "demands link_srlg links matrices meta nodes plan_history policy "
-	    "sqlite_sequence sweep_results sweeps");
+	    "audit demands link_srlg links matrices meta nodes plan_history "
+	    "policy sqlite_sequence sweep_results sweeps tokens");
 	ASSERT_SHELL(path, "PRAGMA integrity_check;", "ok");
 	db_close(db);
 	TEST_DONE();
