@@ -95,6 +95,11 @@ def npm_ci(npm):
                    "--cache", NPM_CACHE], timeout=600, cwd=HERE, env=tool_env())
     if rc != 0:
         print(out)
+        if "CERT" in out:
+            # Still a failure: the validator could not be fetched.
+            print("# the npm registry's TLS certificate is not trusted here; behind a "
+                  "TLS-inspecting proxy, point NODE_EXTRA_CA_CERTS (or npm's cafile) at "
+                  "its CA certificate")
         fail("npm ci in tests/openapi (exit %d)" % rc)
         return False
     ok("npm ci in tests/openapi")
