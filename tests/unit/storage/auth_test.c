@@ -20,77 +20,11 @@
 #include <unistd.h>
 
 #include "../../tap.h"
+#include "dbtest.h"
 #include "../../../storage/db.h"
 #include "../../../storage/schema.h"
 #include "../../../daemon/base/err.h"
 #include "../../../daemon/base/xalloc.h"
-
-static char tmpdir[] = "/tmp/weft-auth-test-XXXXXX";
-static int seq;
-
-static void
-new_path(char *buf, size_t len)
-{
-	snprintf(buf, len, "%s/t%d.db", tmpdir, ++seq);
-}
-
-/* Runs sql through the sqlite3 shell on path; returns its output. */
-static char *
-shell(const char *path, const char *sql)
-{
-	char cmd[512], sqlpath[128], *out;
-	size_t len = 0, cap = 256, got;
-	FILE *f, *p;
-
-	snprintf(sqlpath, sizeof(sqlpath), "%s/query.sql", tmpdir);
-	if ((f = fopen(sqlpath, "w")) == NULL)
-		return xstrdup("(cannot write query file)");
-	fputs(sql, f);
-	fclose(f);
-	snprintf(cmd, sizeof(cmd), "/usr/bin/sqlite3 -batch -noheader -list "
-	    "'%s' < '%s' 2>&1", path, sqlpath);
-	if ((p = popen(cmd, "r")) == NULL)
-		return xstrdup("(cannot run sqlite3)");
-	out = xmalloc(cap);
-	while ((got = fread(out + len, 1, cap - len - 1, p)) > 0) {
-		len += got;
-		if (cap - len < 2) {
-			cap *= 2;
-			out = xreallocarray(out, cap, 1);
-		}
-	}
-	pclose(p);
-	out[len] = '\0';
-	while (len > 0 && out[len - 1] == '\n')
-		out[--len] = '\0';
-	return out;
-}
-
-#define ASSERT_SHELL(path, sql, want) do {				\
-	char *_got = shell((path), (sql));				\
-	ASSERT_STR_EQ(_got, (want));					\
-	free(_got);							\
-} while (0)
-
-static void
-rm_tmpdir(void)
-{
-	char path[512];
-	struct dirent *de;
-	DIR *d;
-
-	if ((d = opendir(tmpdir)) == NULL)
-		return;
-	while ((de = readdir(d)) != NULL) {
-		if (strcmp(de->d_name, ".") == 0 ||
-		    strcmp(de->d_name, "..") == 0)
-			continue;
-		snprintf(path, sizeof(path), "%s/%s", tmpdir, de->d_name);
-		unlink(path);
-	}
-	closedir(d);
-	rmdir(tmpdir);
-}
 
 /* Salt k: bytes k, k+1, ...; hash k: bytes 0xa0 + k, ... */
 static void
