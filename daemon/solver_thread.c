@@ -161,7 +161,7 @@ solve_once(struct solver *s)
 	log_info("solve started model_revision=%lld nodes=%zu links=%zu "
 	    "demands=%zu unplaced=%zu", (long long)m->revision, m->n_nodes,
 	    m->n_links, m->n_demands, m->n_unplaced);
-	if (m->policy.formulation == FORM_PATH)
+	if (m->policy.formulation != FORM_ARC)
 		r = engine_solve_warm(&s->state, m, &o, &p, &e);
 	else {
 		engine_state_free(s->state);
@@ -190,7 +190,7 @@ solve_once(struct solver *s)
 	log_info("plan solved model_revision=%lld formulation=%s status=%s "
 	    "ms=%.1f iterations=%d cg_rounds=%d columns=%zu gap=%.3g warm=%s "
 	    "moved_bps=%.6g", (long long)m->revision,
-	    p->formulation == FORM_PATH ? "path" : "arc",
+	    formulation_word(p->formulation),
 	    plan_status_str(p->status), p->solve_ms, p->iterations,
 	    p->cg_rounds, p->columns, p->gap, p->warm ? "yes" : "no",
 	    p->moved_bps);

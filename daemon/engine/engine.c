@@ -18,6 +18,7 @@
 #include "engine.h"
 #include "form_arc.h"
 #include "form_path.h"
+#include "form_pot.h"
 #include "lp.h"
 #include "../base/err.h"
 #include "../base/xalloc.h"
@@ -162,7 +163,8 @@ engine_check(const struct model *m, struct err *e)
 	if (!(pol->balance_tol >= 0 && pol->balance_tol <= 0.1))
 		return err_set(e, ERR_INVALID, "policy.balance_tol",
 		    "balance tolerance must be in [0, 0.1]");
-	if (pol->formulation != FORM_ARC && pol->formulation != FORM_PATH)
+	if (pol->formulation != FORM_ARC && pol->formulation != FORM_PATH &&
+	    pol->formulation != FORM_POT)
 		return err_set(e, ERR_INVALID, "policy.formulation",
 		    "unknown formulation %d", (int)pol->formulation);
 	if (!(pol->gap_target >= 0 && pol->gap_target <= 0.5))
@@ -229,7 +231,17 @@ engine_solve_warm(struct engine_state **stp, const struct model *m,
 	 * objective is solved by the node-arc formulation, and the plan's
 	 * formulation field says so.
 	 */
-	if (m->policy.formulation == FORM_PATH && o->export_path == NULL &&
+	/*
+	 * The potential method plans balance when the matrix fits; anything
+	 * else it leaves to the path formulation's exact stages.
+	 */
+	if (m->policy.formulation == FORM_POT && o->export_path == NULL &&
+	    m->policy.objective == OBJ_BALANCE) {
+		if ((r = form_pot_solve(form_path_pot_slot(stp), m, o, planp,
+		    e)) != POT_NO_FIT)
+			return r;
+	}
+	if (m->policy.formulation != FORM_ARC && o->export_path == NULL &&
 	    m->policy.objective != OBJ_CONGESTION)
 		return form_path_solve(stp, m, o, planp, e);
 	/*
@@ -237,7 +249,7 @@ engine_solve_warm(struct engine_state **stp, const struct model *m,
 	 * path master is not a model another solver could take alone.  Such
 	 * a one-off solve leaves a kept state alone.
 	 */
-	if (m->policy.formulation != FORM_PATH) {
+	if (m->policy.formulation == FORM_ARC) {
 		engine_state_free(*stp);
 		*stp = NULL;
 	}

@@ -71,6 +71,7 @@
 
 #include "form_path.h"
 #include "form_path_int.h"
+#include "form_pot.h"
 #include "lp.h"
 #include "../base/clock.h"
 #include "../base/err.h"
@@ -523,6 +524,14 @@ kept:
 
 /* ---- building and keeping the master ---- */
 
+struct pot **
+form_path_pot_slot(struct engine_state **stp)
+{
+	if (*stp == NULL)
+		*stp = xcalloc(1, sizeof(**stp));
+	return &(*stp)->pot;
+}
+
 void
 form_path_state_free(struct engine_state *st)
 {
@@ -552,6 +561,7 @@ form_path_state_free(struct engine_state *st)
 	free(st->cap_lp);
 	free(st->d_lp);
 	free(st->u_hi);
+	form_pot_free(st->pot);
 	lp_free(st->lp);
 	free(st->cols);
 	free(st->parcs);

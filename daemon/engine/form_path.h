@@ -22,6 +22,12 @@ struct err;
 int form_path_solve(struct engine_state **stp, const struct model *m,
     const struct solve_opts *o, struct plan **planp, struct err *e);
 
+/*
+ * The place in *stp (made, without a master, when *stp is NULL) where the
+ * potential method keeps its flows between solves (form_pot.h).
+ */
+struct pot **form_path_pot_slot(struct engine_state **stp);
+
 /* Frees a state (NULL ok), on the thread that made it. */
 void form_path_state_free(struct engine_state *st);
 

@@ -91,6 +91,8 @@ struct engine_state {
 	double class_lp[NPRIO];
 
 	/* The master. */
+	struct pot *pot;	/* the potential method's kept flows
+				   (form_pot.c), or NULL */
 	struct lp *lp;
 	int row_cc;		/* the cost row */
 	int class_row[NPRIO];	/* class -> its row, or -1 */

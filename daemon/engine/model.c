@@ -237,6 +237,7 @@ static const char *const objective_words[] = {
 static const char *const formulation_words[] = {
 	[FORM_ARC] = "arc",
 	[FORM_PATH] = "path",
+	[FORM_POT] = "potential",
 };
 
 /* Index of word in a table of n words, or -1. */

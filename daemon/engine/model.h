@@ -65,6 +65,9 @@ enum objective {
 enum formulation {
 	FORM_ARC = 0,		/* node-arc, commodities per source: exact */
 	FORM_PATH = 1,		/* paths by column generation */
+	FORM_POT = 2,		/* balance by the exponential potential
+				   method, certified gap (form_pot.c); very
+				   large matrices */
 };
 
 struct policy {

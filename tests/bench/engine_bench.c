@@ -4,7 +4,7 @@
 /*
  * DESIGN
  * usage: engine_bench FILE [--objective cost|balance]
- *            [--formulation path|arc] [--fail-links N] [--seed S]
+ *            [--formulation path|arc|potential] [--gap F] [--fail-links N] [--seed S]
  *            [--links ID,ID...] [--from-seed]
  *            [--scale-demands F] [--keep-paths] [--prescale F] [--debug]
  *
@@ -101,7 +101,7 @@ run(struct engine_state **st, const struct model *m, const char *file,
 	    "\"lp_objective\": %.12g, \"iterations\": %d, "
 	    "\"cg_rounds\": %d, \"columns\": %zu, \"gap\": %.3g, "
 	    "\"warm\": %s, \"moved_bps\": %.12g}\n", file,
-	    m->policy.formulation == FORM_PATH ? "path" : "arc",
+	    formulation_word(p->formulation),
 	    m->policy.objective == OBJ_BALANCE ? "balance" : "cost", event,
 	    link, ms, plan_status_str(p->status), p->max_util, p->total_cost,
 	    p->carried_bps, p->n_stages > 0 ?
@@ -157,14 +157,23 @@ main(int argc, char **argv)
 	size_t len, i, n_fail = 0, l, *picked;
 	unsigned long seed = 1;
 	double scale = 0, prescale = 0;
-	bool balance = false, path = true, keep = false, seeded = false;
+	bool balance = false, keep = false, seeded = false;
+	enum formulation form = FORM_PATH;
+	double gap_target = -1;
 	int a, r = 1;
 
 	for (a = 1; a < argc; a++) {
 		if (strcmp(argv[a], "--objective") == 0 && a + 1 < argc)
 			balance = strcmp(argv[++a], "balance") == 0;
 		else if (strcmp(argv[a], "--formulation") == 0 && a + 1 < argc)
-			path = strcmp(argv[++a], "arc") != 0;
+		{
+			if (formulation_parse(argv[++a], &form) != 0) {
+				fprintf(stderr, "engine_bench: unknown "
+				    "formulation %s\n", argv[a]);
+				return 2;
+			}
+		} else if (strcmp(argv[a], "--gap") == 0 && a + 1 < argc)
+			gap_target = strtod(argv[++a], NULL);
 		else if (strcmp(argv[a], "--fail-links") == 0 && a + 1 < argc)
 			n_fail = strtoul(argv[++a], NULL, 10);
 		else if (strcmp(argv[a], "--links") == 0 && a + 1 < argc)
@@ -186,7 +195,7 @@ main(int argc, char **argv)
 			file = argv[a];
 		else {
 			fprintf(stderr, "usage: engine_bench FILE [--objective "
-			    "cost|balance] [--formulation path|arc] "
+			    "cost|balance] [--formulation path|arc|potential] [--gap F] "
 			    "[--fail-links N] [--links ID,ID..] [--seed S] "
 			    "[--scale-demands F] "
 			    "[--keep-paths] [--prescale F] [--from-seed] "
@@ -208,7 +217,9 @@ main(int argc, char **argv)
 	}
 	free(text);
 	m->policy.objective = balance ? OBJ_BALANCE : OBJ_COST;
-	m->policy.formulation = path ? FORM_PATH : FORM_ARC;
+	m->policy.formulation = form;
+	if (gap_target >= 0)
+		m->policy.gap_target = gap_target;
 	m->policy.keep_paths = keep;
 	if (prescale > 0)
 		for (i = 0; i < m->n_demands; i++)

@@ -28,8 +28,10 @@ in minutes.  120 sites (14,280 demands, close to brain.txt's 14,311) gives
 a node-arc LP that CLP solves in about 45 s and weft's node-arc solve in
 about 110 s on the shared 2-core machine: run.py --sites 120 for that.
 
-Usage: synth.py [--sites N] [--seed S] [--out FILE]  (prints a summary;
-FILE gets {"topology": ..., "demands": ...} as weft's API takes them).
+Usage: synth.py [--sites N] [--seed S] [--out FILE] [--sndlib FILE]
+(prints a summary; --out FILE gets {"topology": ..., "demands": ...} as
+weft's API takes them, --sndlib FILE the same network in the SNDlib native
+format, rates in Mbit/s, the TE metric as routing cost, for engine_bench).
 """
 import heapq
 import json
@@ -223,8 +225,31 @@ def build(sites=SITES, seed=SEED, path=KDL, sp_load=SP_LOAD):
     return {"topology": {"nodes": nodes, "links": links}, "demands": demands, "info": info}
 
 
+def write_sndlib(inst, path):
+    """inst in the SNDlib native format (weft's importer reads it back:
+    pre-installed capacity and routing cost per link, one demand line per
+    demand; rates in Mbit/s with 12 significant digits)."""
+    topo = inst["topology"]
+    with open(path, "w") as f:
+        f.write("?SNDlib native format; type: network; version: 1.0\n")
+        f.write("# invented data: tests/bench/synth.py seed %d, %d sites\n"
+                % (inst["info"]["seed"], inst["info"]["sites"]))
+        f.write("META (\n  unit = MBITPERSEC\n)\nNODES (\n")
+        for n in topo["nodes"]:
+            f.write("  %s ( %.6f %.6f )\n" % (n["id"], n.get("lon", 0.0), n.get("lat", 0.0)))
+        f.write(")\nLINKS (\n")
+        for l in topo["links"]:
+            f.write("  %s ( %s %s ) %.12g 0 %d 0 ( )\n"
+                    % (l["id"], l["a"], l["b"], l["capacity_bps"] / 1e6, l["te_metric"]))
+        f.write(")\nDEMANDS (\n")
+        for i, d in enumerate(inst["demands"]):
+            f.write("  d%d ( %s %s ) 1 %.12g UNLIMITED\n"
+                    % (i, d["src"], d["dst"], d["rate_bps"] / 1e6))
+        f.write(")\n")
+
+
 def main(argv):
-    sites, seed, out = SITES, SEED, None
+    sites, seed, out, native = SITES, SEED, None, None
     i = 0
     while i < len(argv):
         if argv[i] == "--sites":
@@ -233,8 +258,10 @@ def main(argv):
             seed = int(argv[i + 1])
         elif argv[i] == "--out":
             out = argv[i + 1]
+        elif argv[i] == "--sndlib":
+            native = argv[i + 1]
         else:
-            print(__doc__.strip().splitlines()[-3])
+            print(__doc__.strip().split("Usage: ")[1].split("\n(")[0])
             return 2
         i += 2
     inst = build(sites, seed)
@@ -242,6 +269,8 @@ def main(argv):
     if out:
         with open(out, "w") as f:
             json.dump({"topology": inst["topology"], "demands": inst["demands"]}, f)
+    if native:
+        write_sndlib(inst, native)
     return 0
 
 
