@@ -5,9 +5,11 @@
 
 /*
  * DESIGN
- * The engine is a library (libengine.a): no threads, no HTTP, no SQL.  Any
- * thread may call these functions on its own model; GLPK problem objects
- * live within one call (GLPK here keeps its environment thread-local).
+ * The engine is a library (libengine.a): no HTTP, no SQL, and no threads
+ * that outlive a call (the potential method computes its bound on two
+ * threads of plain arithmetic, joined before it returns).  Any thread may
+ * call these functions on its own model; GLPK problem objects live within
+ * one call (GLPK here keeps its environment thread-local).
  *
  * The node-arc formulation aggregates demands per source (one flow
  * variable per source and arc).  Rates are scaled so the largest arc
@@ -34,6 +36,11 @@
  * (struct engine_state): a model with the same structure is then solved
  * by editing bounds and re-optimising from the kept basis.  It has no
  * congestion stage yet: that objective is always solved node-arc.
+ *
+ * FORM_POT (form_pot.c) solves balance without an LP, by the exponential
+ * potential method with an LP-duality certificate, for matrices too large
+ * for either formulation; it keeps its flows in the same state and hands
+ * a matrix that does not fit to the path formulation.
  */
 
 #include <stdatomic.h>

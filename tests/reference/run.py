@@ -30,6 +30,9 @@ publishes with references computed here, outside the project:
   8. then tests/reference/whatif.py (its own daemon): what-if scenarios
      and survivability sweeps against HiGHS and networkx on five
      instances.
+  9. then tests/reference/scale.py (its own daemon): the potential
+     method's certified plans against HiGHS and CLP, and the 100-site Kdl
+     case against CLP.
 
 The instance files are read again by tests/lib/sndlib.py, not by weft's
 parser.  Relative tolerance 1e-6 throughout unless a check says otherwise.
@@ -535,38 +538,19 @@ def run_instance(d, rep, path):
     print("   %s done in %.1f s" % (c.name, time.time() - t0), flush=True)
 
 
-def run_congestion(rep):
-    """The congestion objective, checked by its own script with its own
-    daemon (tests/reference/congestion.py); one row for its outcome."""
+def run_script(rep, label, script, notes, timeout=600):
+    """A check with its own script and daemon (tests/reference/SCRIPT);
+    one row for its exit status.  notes: exit status -> meaning."""
     import subprocess
-    print("== congestion objective (tests/reference/congestion.py)", flush=True)
+    print("== %s (tests/reference/%s)" % (label, script), flush=True)
     t0 = time.time()
-    r = subprocess.run([sys.executable, os.path.join(HERE, "congestion.py")],
-                       stdout=subprocess.PIPE, stderr=subprocess.STDOUT, timeout=600)
+    r = subprocess.run([sys.executable, os.path.join(HERE, script)],
+                       stdout=subprocess.PIPE, stderr=subprocess.STDOUT, timeout=timeout)
     text = r.stdout.decode("utf-8", "replace")
     print(text, end="", flush=True)
-    notes = {1: "a check failed", 2: "weftd could not run",
-             3: "weftd refused objective \"congestion\""}
     last = text.strip().splitlines()[-1] if text.strip() else ""
-    rep.add("congestion", "-", "congestion.py exit status", r.returncode, 0, r.returncode == 0,
-            solve_ms=(time.time() - t0) * 1000.0,
-            note=notes.get(r.returncode, last) if r.returncode else last)
-
-
-def run_whatif(rep):
-    """What-ifs and sweeps, checked by their own script with its own
-    daemon (tests/reference/whatif.py); one row for its outcome."""
-    import subprocess
-    print("== what-ifs and sweeps (tests/reference/whatif.py)", flush=True)
-    t0 = time.time()
-    r = subprocess.run([sys.executable, os.path.join(HERE, "whatif.py")],
-                       stdout=subprocess.PIPE, stderr=subprocess.STDOUT, timeout=600)
-    text = r.stdout.decode("utf-8", "replace")
-    print(text, end="", flush=True)
-    notes = {1: "a check failed", 2: "weftd could not run",
-             3: "weftd does not serve POST /v1/whatif or link SRLGs"}
-    last = text.strip().splitlines()[-1] if text.strip() else ""
-    rep.add("whatif", "-", "whatif.py exit status", r.returncode, 0, r.returncode == 0,
+    name = os.path.splitext(script)[0]
+    rep.add(name, "-", "%s exit status" % script, r.returncode, 0, r.returncode == 0,
             solve_ms=(time.time() - t0) * 1000.0,
             note=notes.get(r.returncode, last) if r.returncode else last)
 
@@ -601,8 +585,14 @@ def main(argv):
         print(e)
     finally:
         d.stop()
-    run_congestion(rep)
-    run_whatif(rep)
+    failed = {1: "a check failed", 2: "weftd could not run"}
+    run_script(rep, "congestion objective", "congestion.py",
+               dict(failed, **{3: "weftd refused objective \"congestion\""}))
+    run_script(rep, "what-ifs and sweeps", "whatif.py",
+               dict(failed, **{3: "weftd does not serve POST /v1/whatif or link SRLGs"}))
+    run_script(rep, "potential method and the Kdl family", "scale.py",
+               {1: "a check failed", 2: "weftd or a reference solver could not run"},
+               timeout=1500)
     print()
     print(rep.table())
     bad = rep.failed()

@@ -8,7 +8,11 @@
 #include <stdbool.h>
 #include <stdlib.h>
 
+#include <stdio.h>
+
 #include "../../../daemon/engine/engine.h"
+#include "../../../daemon/engine/sndlib.h"
+#include "../../../daemon/base/err.h"
 #include "../../../daemon/base/xalloc.h"
 
 /* tolerance on optima, relative */
@@ -120,6 +124,36 @@ check_plan(const struct model *m, const struct plan *p)
 		bad++;
 	free(load);
 	return bad;
+}
+
+/* A model from tests/data/sndlib/NAME (run from the project root); NULL
+   with a message on failure. */
+static inline struct model *
+load_sndlib(const char *name)
+{
+	char path[256], *buf;
+	struct model *m = NULL;
+	struct err e;
+	FILE *f;
+	long n;
+
+	snprintf(path, sizeof(path), "tests/data/sndlib/%s", name);
+	if ((f = fopen(path, "rb")) == NULL) {
+		printf("# cannot open %s\n", path);
+		return NULL;
+	}
+	fseek(f, 0, SEEK_END);
+	n = ftell(f);
+	fseek(f, 0, SEEK_SET);
+	buf = xmalloc((size_t)n + 1);
+	if (fread(buf, 1, (size_t)n, f) != (size_t)n)
+		n = 0;
+	fclose(f);
+	err_clear(&e);
+	if (sndlib_parse(buf, (size_t)n, &m, &e) != 0)
+		printf("# %s: %s: %s\n", path, e.where, e.msg);
+	free(buf);
+	return m;
 }
 
 #endif /* WEFT_TESTS_UNIT_ENGINE_ENGINETEST_H */

@@ -223,33 +223,6 @@ test_down_link(void)
 
 /* ---- the node-arc reference on SNDlib instances ---- */
 
-static struct model *
-load_sndlib(const char *name)
-{
-	char path[256], *buf;
-	struct model *m = NULL;
-	struct err e;
-	FILE *f;
-	long n;
-
-	snprintf(path, sizeof(path), "tests/data/sndlib/%s", name);
-	if ((f = fopen(path, "rb")) == NULL) {
-		printf("# cannot open %s\n", path);
-		return NULL;
-	}
-	fseek(f, 0, SEEK_END);
-	n = ftell(f);
-	fseek(f, 0, SEEK_SET);
-	buf = xmalloc((size_t)n + 1);
-	if (fread(buf, 1, (size_t)n, f) != (size_t)n)
-		n = 0;
-	fclose(f);
-	err_clear(&e);
-	if (sndlib_parse(buf, (size_t)n, &m, &e) != 0)
-		printf("# %s: %s: %s\n", path, e.where, e.msg);
-	free(buf);
-	return m;
-}
 
 /* Both formulations on m; returns the count of disagreements. */
 static int
