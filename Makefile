@@ -29,7 +29,7 @@ export UBSAN_OPTIONS ?= halt_on_error=1:print_stacktrace=1
 endif
 PKG_CFLAGS := $(shell pkg-config --cflags $(PKGS) 2>/dev/null)
 PKG_LIBS   := $(shell pkg-config --libs $(PKGS) 2>/dev/null)
-LDLIBS   += $(PKG_LIBS) -lglpk -lm -pthread
+LDLIBS   += $(PKG_LIBS) -lz -lglpk -lm -pthread
 
 BASE_SRC    := $(wildcard daemon/base/*.c)
 # Fault injection points (daemon/base/fault.h) exist only in test builds:
@@ -114,6 +114,26 @@ $(BUILD)/obj/api/client/%.o: api/client/%.c $(BUILD)/flags
 $(WEFT): $(CLIENT_OBJ) $(LIBENGINE) $(LIBBASE)
 	$(CC) $(LDFLAGS) -o $@ $^ $(CLIENT_LIBS) -lglpk -lm -pthread
 
+# ---- weft-mpisweep (daemon/mpisweep/): a sweep on MPI ranks ----
+# Not part of all: built by make mpi and make check-mpi, with mpicc
+# (Open MPI: openmpi-bin, libopenmpi-dev) driving $(CC).  It links the
+# sweep's scenarios (daemon/sweepset.o, as weftd does), the snapshot and
+# sweep codecs, storage, engine and base; never http.c or the service.
+MPICC      ?= mpicc
+MPISWEEP   := $(BUILD)/weft-mpisweep
+MPI_SRC    := $(wildcard daemon/mpisweep/*.c)
+MPI_OBJ    := $(call obj,$(MPI_SRC) daemon/sweepset.c api/codec_snapshot.c \
+              api/codec_sweep.c api/codec_model.c api/codec_strict.c \
+              api/codec_json.c)
+$(BUILD)/obj/daemon/mpisweep/%.o: daemon/mpisweep/%.c $(BUILD)/flags
+	@mkdir -p $(dir $@)
+	OMPI_CC=$(CC) $(MPICC) $(CFLAGS) $(PKG_CFLAGS) -c $< -o $@
+$(MPISWEEP): $(MPI_OBJ) $(LIBSTORAGE) $(LIBENGINE) $(LIBBASE)
+	OMPI_CC=$(CC) $(MPICC) $(LDFLAGS) -o $@ $^ \
+	    $(shell pkg-config --libs jansson sqlite3 2>/dev/null) -lglpk -lm -pthread
+mpi: $(MPISWEEP)
+.PHONY: mpi
+
 # ---- unit tests: a layer's tests link only that layer and those below ----
 UNIT_BASE    := $(patsubst tests/unit/%.c,$(BUILD)/tests/%,$(wildcard tests/unit/base/*_test.c))
 UNIT_ENGINE  := $(patsubst tests/unit/%.c,$(BUILD)/tests/%,$(wildcard tests/unit/engine/*_test.c))
@@ -149,11 +169,12 @@ check-unit: $(UNIT_ALL)
 
 check-integration: $(WEFTD)
 	WEFTD=$(abspath $(WEFTD)) $(PYTHON) tests/integration/run.py
+	WEFTD=$(abspath $(WEFTD)) $(PYTHON) tests/integration/plan_pages.py
 
 check-reference: $(WEFTD)
 	WEFTD=$(abspath $(WEFTD)) $(PYTHON) tests/reference/run.py
 
-check: check-unit check-integration check-reference check-client check-monitoring check-browser check-openapi fuzz-ci check-durability check-faults check-security check-service check-asan-unit
+check: check-unit check-integration check-reference check-client check-monitoring check-browser check-openapi fuzz-ci check-durability check-faults check-security check-service check-asan-unit check-mpi
 
 # Bearer tokens (weftd token), roles per route, the audit log, HTTPS with
 # a self-signed certificate (openssl) checked by curl.
@@ -171,6 +192,14 @@ check-monitoring: $(WEFTD)
 check-browser: $(WEFTD)
 	WEFTD=$(abspath $(WEFTD)) $(PYTHON) tests/browser/map_test.py
 .PHONY: check-browser
+
+# weft-mpisweep under mpirun -np 2 (127.0.0.1, loopback and shared memory
+# only) against the daemon's own sweeps; --db read back over HTTP; bad
+# arguments and snapshots (Open MPI: openmpi-bin, libopenmpi-dev).
+check-mpi: $(MPISWEEP) $(WEFT) $(WEFTD)
+	WEFT=$(abspath $(WEFT)) WEFTD=$(abspath $(WEFTD)) \
+	    WEFT_MPISWEEP=$(abspath $(MPISWEEP)) $(PYTHON) tests/integration/mpisweep.py
+.PHONY: check-mpi
 
 # The client against its own daemon, its offline solve against HiGHS.
 check-client: $(WEFT) $(WEFTD)
@@ -251,8 +280,17 @@ check-valgrind: $(WEFTD)
 
 # The benchmark (tests/bench/README.md): takes minutes; not part of check.
 # make bench BENCH_ARGS="--quick" (or instance names, --runs N, ...).
-bench: $(WEFTD)
-	WEFTD=$(abspath $(WEFTD)) $(PYTHON) tests/bench/run.py $(BENCH_ARGS)
+# Then the MPI sweep's speed-up from 1 to 2 ranks (tests/bench/mpisweep.py;
+# make bench MPI_BENCH_ARGS="--runs 5 --kind links") and the full matrices
+# on the Kdl topology (tests/bench/scale.py; SCALE_BENCH_ARGS="--sites
+# 100,300"); every part runs even when one before it fails.
+bench: $(WEFTD) $(WEFT) $(MPISWEEP) $(BUILD)/tests/bench/engine_bench
+	rc=0; WEFTD=$(abspath $(WEFTD)) $(PYTHON) tests/bench/run.py $(BENCH_ARGS) || rc=1; \
+	WEFTD=$(abspath $(WEFTD)) WEFT=$(abspath $(WEFT)) \
+	    WEFT_MPISWEEP=$(abspath $(MPISWEEP)) \
+	    $(PYTHON) tests/bench/mpisweep.py $(MPI_BENCH_ARGS) || rc=1; \
+	WEFTD=$(abspath $(WEFTD)) $(PYTHON) tests/bench/scale.py $(SCALE_BENCH_ARGS) || rc=1; \
+	exit $$rc
 .PHONY: bench
 
 # SIGKILL at seeded random moments under a stream of writes: nothing

@@ -3,10 +3,13 @@
 
 /*
  * DESIGN
- * Runs on the solver thread when a plan is published, once per plan, so
- * the readers on HTTP threads only copy bytes.  The plan's arrays run
- * parallel to the model (routes[k] is demands[k]; arcs[2i] is link i a->b,
- * arcs[2i+1] is b->a), which this file checks before indexing, so a
+ * The summary is rendered on the solver thread when a plan is published,
+ * once per plan; the list entries on HTTP threads as a reply is streamed
+ * (api/plan_list.c), both through route_json() and link_json(), so the
+ * whole texts and the streamed ones are the same bytes.  The plan's arrays
+ * run parallel to the model (routes[k] is demands[k]; arcs[2i] is link i
+ * a->b, arcs[2i+1] is b->a), which this file checks before indexing (the
+ * whole plan at publication, each entry again as it is streamed), so a
  * mismatched pair gives ERR_INTERNAL instead of a wild read.  A path's
  * node list is walked from the demand's source along its arcs.  Demands of
  * the matrix that name nodes missing from the topology are not in the
@@ -281,30 +284,35 @@ path_json(const struct model *m, const struct demand *d,
 	    "nodes", nodes, "links", links);
 }
 
+/* The entry of demand k in GET /v1/plan/routes. */
+static json_t *
+route_json(const struct model *m, const struct plan *p, size_t k, bool *okp)
+{
+	json_t *paths;
+	const struct demand *d = &m->demands[k];
+	const struct plan_route *pr = &p->routes[k];
+	size_t i;
+
+	paths = json_array();
+	for (i = 0; i < pr->n_paths; i++)
+		codec_append(paths, path_json(m, d, &pr->paths[i], okp), okp);
+	return json_pack("{s:s, s:s, s:i, s:o, s:o, s:o, s:o}",
+	    "src", m->nodes[d->src].id, "dst", m->nodes[d->dst].id,
+	    "priority", d->priority, "rate_bps", codec_num(d->rate_bps),
+	    "carried_bps", codec_num(pr->carried_bps), "unserved_bps",
+	    codec_num(pr->unserved_bps), "paths", paths);
+}
+
 static json_t *
 routes(const struct model *m, const struct plan *p, int64_t revision,
     bool *okp)
 {
-	json_t *arr, *paths;
-	const struct demand *d;
-	const struct plan_route *pr;
-	size_t k, i;
+	json_t *arr;
+	size_t k;
 
 	arr = json_array();
-	for (k = 0; p != NULL && k < p->n_routes; k++) {
-		d = &m->demands[k];
-		pr = &p->routes[k];
-		paths = json_array();
-		for (i = 0; i < pr->n_paths; i++)
-			codec_append(paths,
-			    path_json(m, d, &pr->paths[i], okp), okp);
-		codec_append(arr, json_pack(
-		    "{s:s, s:s, s:i, s:o, s:o, s:o, s:o}",
-		    "src", m->nodes[d->src].id, "dst", m->nodes[d->dst].id,
-		    "priority", d->priority, "rate_bps", codec_num(d->rate_bps),
-		    "carried_bps", codec_num(pr->carried_bps), "unserved_bps",
-		    codec_num(pr->unserved_bps), "paths", paths), okp);
-	}
+	for (k = 0; p != NULL && k < p->n_routes; k++)
+		codec_append(arr, route_json(m, p, k, okp), okp);
 	return json_pack("{s:I, s:I, s:o}", "revision", (json_int_t)revision,
 	    "model_revision", (json_int_t)(p != NULL ? p->model_revision :
 	    m->revision), "routes", arr);
@@ -319,26 +327,31 @@ arc_json(const struct plan_arc *a)
 	    codec_num(a->shadow_price), "saturated", a->saturated);
 }
 
+/* The entry of link i in GET /v1/plan/loads. */
+static json_t *
+link_json(const struct model *m, const struct plan *p, size_t i)
+{
+	const struct link *l = &m->links[i];
+
+	return json_pack("{s:s, s:s, s:s, s:s, s:o, s:o, s:o, s:o}",
+	    "id", l->id, "a", m->nodes[l->a].id, "b", m->nodes[l->b].id,
+	    "state", l->up ? "up" : "down",
+	    "capacity_bps", codec_num(l->capacity_bps),
+	    "te_metric", codec_num(l->te_metric),
+	    "a_to_b", arc_json(&p->arcs[2 * i]),
+	    "b_to_a", arc_json(&p->arcs[2 * i + 1]));
+}
+
 static json_t *
 loads(const struct model *m, const struct plan *p, int64_t revision,
     bool *okp)
 {
 	json_t *arr;
-	const struct link *l;
 	size_t i;
 
 	arr = json_array();
-	for (i = 0; p != NULL && i < m->n_links; i++) {
-		l = &m->links[i];
-		codec_append(arr,
-		    json_pack("{s:s, s:s, s:s, s:s, s:o, s:o, s:o, s:o}",
-		    "id", l->id, "a", m->nodes[l->a].id, "b", m->nodes[l->b].id,
-		    "state", l->up ? "up" : "down",
-		    "capacity_bps", codec_num(l->capacity_bps),
-		    "te_metric", codec_num(l->te_metric),
-		    "a_to_b", arc_json(&p->arcs[2 * i]),
-		    "b_to_a", arc_json(&p->arcs[2 * i + 1])), okp);
-	}
+	for (i = 0; p != NULL && i < m->n_links; i++)
+		codec_append(arr, link_json(m, p, i), okp);
 	return json_pack("{s:I, s:I, s:o, s:o}", "revision",
 	    (json_int_t)revision, "model_revision", (json_int_t)(p != NULL ?
 	    p->model_revision : m->revision), "links", arr,
@@ -357,8 +370,16 @@ codec_plan_render(const struct model *m, const struct plan *p,
 	int r;
 
 	r = ERR_INTERNAL;
-	*summaryp = *routesp = *loadsp = NULL;
-	*summary_lenp = *routes_lenp = *loads_lenp = 0;
+	*summaryp = NULL;
+	*summary_lenp = 0;
+	if (routesp != NULL) {
+		*routesp = NULL;
+		*routes_lenp = 0;
+	}
+	if (loadsp != NULL) {
+		*loadsp = NULL;
+		*loads_lenp = 0;
+	}
 	if (m == NULL || (p != NULL && !fits(m, p)))
 		goto out;
 	/*
@@ -367,15 +388,21 @@ codec_plan_render(const struct model *m, const struct plan *p,
 	 */
 	if ((s = codec_dump(codec_plan_summary(m, p, revision, &ok),
 	    &slen)) == NULL ||
-	    (rt = codec_dump(routes(m, p, revision, &ok), &rlen)) == NULL ||
-	    (ld = codec_dump(loads(m, p, revision, &ok), &llen)) == NULL || !ok)
+	    (routesp != NULL && (rt = codec_dump(routes(m, p, revision, &ok),
+	    &rlen)) == NULL) ||
+	    (loadsp != NULL && (ld = codec_dump(loads(m, p, revision, &ok),
+	    &llen)) == NULL) || !ok)
 		goto out;
 	*summaryp = s;
 	*summary_lenp = slen;
-	*routesp = rt;
-	*routes_lenp = rlen;
-	*loadsp = ld;
-	*loads_lenp = llen;
+	if (routesp != NULL) {
+		*routesp = rt;
+		*routes_lenp = rlen;
+	}
+	if (loadsp != NULL) {
+		*loadsp = ld;
+		*loads_lenp = llen;
+	}
 	s = rt = ld = NULL;
 	r = 0;
 out:
@@ -383,4 +410,75 @@ out:
 	free(rt);
 	free(ld);
 	return r;
+}
+
+/* ---- one entry at a time, for streamed lists (api/plan_list.c) ---- */
+
+/*
+ * Appends j's compact text (reals at 17 digits, as codec_dump()) to the
+ * text at *bufp, growing it; drops the reference to j.
+ */
+static int
+append_json(json_t *j, char **bufp, size_t *lenp, size_t *capp)
+{
+	size_t n, cap;
+	int r = ERR_INTERNAL;
+
+	if (j == NULL)
+		return ERR_INTERNAL;
+	n = json_dumpb(j, *bufp != NULL ? *bufp + *lenp : NULL,
+	    *capp - *lenp, JSON_COMPACT | JSON_REAL_PRECISION(17) |
+	    JSON_ENCODE_ANY);
+	if (n == 0)
+		goto out;
+	if (n > *capp - *lenp) {
+		cap = *capp == 0 ? 4096 : *capp;
+		while (cap - *lenp < n)
+			cap *= 2;
+		*bufp = xreallocarray(*bufp, 1, cap);
+		*capp = cap;
+		if (json_dumpb(j, *bufp + *lenp, cap - *lenp, JSON_COMPACT |
+		    JSON_REAL_PRECISION(17) | JSON_ENCODE_ANY) != n)
+			goto out;
+	}
+	*lenp += n;
+	r = 0;
+out:
+	json_decref(j);
+	return r;
+}
+
+int
+codec_plan_route_text(const struct model *m, const struct plan *p, size_t k,
+    char **bufp, size_t *lenp, size_t *capp)
+{
+	const struct plan_route *pr;
+	bool ok = true;
+	size_t i, a;
+
+	if (p == NULL || k >= p->n_routes || p->n_routes != m->n_demands ||
+	    p->n_arcs != 2 * m->n_links)
+		return ERR_INTERNAL;
+	pr = &p->routes[k];
+	for (i = 0; i < pr->n_paths; i++)
+		for (a = 0; a < pr->paths[i].n_arcs; a++)
+			if (pr->paths[i].arcs[a] >= p->n_arcs)
+				return ERR_INTERNAL;
+	return append_json(route_json(m, p, k, &ok), bufp, lenp, capp) != 0 ||
+	    !ok ? ERR_INTERNAL : 0;
+}
+
+int
+codec_plan_link_text(const struct model *m, const struct plan *p, size_t i,
+    char **bufp, size_t *lenp, size_t *capp)
+{
+	if (p == NULL || i >= m->n_links || p->n_arcs != 2 * m->n_links)
+		return ERR_INTERNAL;
+	return append_json(link_json(m, p, i), bufp, lenp, capp);
+}
+
+int
+codec_plan_num_text(double x, char **bufp, size_t *lenp, size_t *capp)
+{
+	return append_json(codec_num(x), bufp, lenp, capp);
 }

@@ -1,14 +1,21 @@
 /* SPDX-License-Identifier: GPL-3.0-or-later */
-/* The plan routes (pre-rendered summary, routes, loads) and the LP export. */
+/* The plan routes (summary, streamed routes and loads) and the LP export. */
 
 /*
  * DESIGN
- * Plan replies borrow the published plan's pre-rendered text: the reply
- * takes the reference from service_plan_ref() and http.c drops it when
- * libmicrohttpd frees the response, so a newer plan may be published (and
- * this one released by the service) while the bytes are still being sent.
- * The three plan texts carry the plan revision as their entity tag and
- * answer a matching If-None-Match with 304 (RFC 9110, 13.1.2).
+ * The summary borrows the published plan's pre-rendered text; the routes
+ * and loads are streamed from the published plan (api/plan_list.h),
+ * filtered and paged as the query asks.  Either way the reply holds the
+ * reference from service_plan_ref() until libmicrohttpd frees the
+ * response, so a newer plan may be published (and this one released by
+ * the service) while the bytes are still being sent.  A page cursor names
+ * its plan revision and is served from that plan while the service keeps
+ * it (SERVICE_PLANS_KEPT), so the pages of one walk are consistent; a
+ * cursor of a plan no longer kept gets 409.  The plan texts carry the
+ * plan revision as their entity tag, with the content coding appended
+ * when the reply is compressed ("12-gzip": another representation), and
+ * answer a matching If-None-Match with 304 (RFC 9110, 13.1.2); the coding
+ * is chosen before that comparison (http_coding()).
  *
  * A long poll (GET /v1/plan?wait=S&after=R) is deferred like a what-if:
  * the connection is suspended and the service calls back (service.c,
@@ -26,6 +33,8 @@
 #include <string.h>
 
 #include "handlers.h"
+#include "compress.h"
+#include "plan_list.h"
 #include "../daemon/base/err.h"
 #include "../daemon/base/xalloc.h"
 #include "../daemon/engine/engine.h"
@@ -34,7 +43,6 @@
 #include "query.h"
 #include "reply.h"
 
-enum which { SUMMARY, ROUTES, LOADS };
 
 /*
  * True when If-None-Match value inm (NULL: absent) matches the entity tag
@@ -69,36 +77,44 @@ none_match(const char *inm, const char *etag)
 	}
 }
 
+/* The entity tag of plan revision rev sent with coding c. */
+static void
+plan_etag(int64_t rev, enum compress_coding c, char *etag, size_t n)
+{
+	const char *w = compress_word(c);
+
+	if (w != NULL)
+		snprintf(etag, n, "\"%lld-%s\"", (long long)rev, w);
+	else
+		snprintf(etag, n, "\"%lld\"", (long long)rev);
+}
+
 /*
- * Replies with text w of the published plan, or 304 when inm (the
- * request's If-None-Match, NULL if none) matches its revision.
+ * Replies with the published plan's summary, or 304 when inm (the
+ * request's If-None-Match, NULL if none) matches its entity tag; accept
+ * is the request's Accept-Encoding (NULL if none).
  */
 static int
-plan_text(struct req *rq, enum which w, const char *inm, struct err *e)
+plan_text(struct req *rq, const char *inm, const char *accept,
+    struct err *e)
 {
 	struct published *pub;
+	enum compress_coding c;
 	char etag[32];
 
 	if ((pub = service_plan_ref(rq->svc)) == NULL)
 		return err_set(e, ERR_BUSY, "", "no plan has been published "
 		    "yet; retry shortly");
-	snprintf(etag, sizeof(etag), "\"%lld\"", (long long)pub->revision);
+	c = compress_choose(accept, pub->summary_len);
+	rq->coding = (int)c;
+	rq->coding_set = true;
+	plan_etag(pub->revision, c, etag, sizeof(etag));
 	if (none_match(inm, etag)) {
 		service_plan_unref(pub);
 		reply_not_modified(rq, etag);
 		return 0;
 	}
-	switch (w) {
-	case SUMMARY:
-		reply_plan(rq, pub, pub->summary_json, pub->summary_len);
-		break;
-	case ROUTES:
-		reply_plan(rq, pub, pub->routes_json, pub->routes_len);
-		break;
-	case LOADS:
-		reply_plan(rq, pub, pub->loads_json, pub->loads_len);
-		break;
-	}
+	reply_plan(rq, pub, pub->summary_json, pub->summary_len);
 	return 0;
 }
 
@@ -106,6 +122,7 @@ plan_text(struct req *rq, enum which w, const char *inm, struct err *e)
 struct poll {
 	struct req *rq;
 	char *inm;		/* owned copy of If-None-Match, or NULL */
+	char *accept;		/* owned copy of Accept-Encoding, NULL */
 };
 
 /* The service's callback: replies with the plan, completes the request. */
@@ -119,9 +136,10 @@ poll_done(void *ctx, enum planwait_why why)
 
 	(void)why;
 	/* Timed out or stopping: the current plan, unchanged or not. */
-	if ((r = plan_text(rq, SUMMARY, pl->inm, &e)) != 0)
+	if ((r = plan_text(rq, pl->inm, pl->accept, &e)) != 0)
 		reply_error(rq, r, &e);
 	free(pl->inm);
+	free(pl->accept);
 	free(pl);
 	http_complete(rq);
 }
@@ -130,6 +148,7 @@ int
 h_plan_summary(struct req *rq, struct err *e)
 {
 	const char *inm = http_header(rq, "If-None-Match");
+	const char *accept = http_header(rq, "Accept-Encoding");
 	struct published *pub;
 	struct poll *pl;
 	double wait_s;
@@ -142,7 +161,7 @@ h_plan_summary(struct req *rq, struct err *e)
 	    &has_after, e)) != 0)
 		return r;
 	if (wait_s == 0)
-		return plan_text(rq, SUMMARY, inm, e);
+		return plan_text(rq, inm, accept, e);
 	if (!has_after) {
 		/* Without after: a plan newer than the current one. */
 		pub = service_plan_ref(rq->svc);
@@ -152,6 +171,7 @@ h_plan_summary(struct req *rq, struct err *e)
 	pl = xcalloc(1, sizeof(*pl));
 	pl->rq = rq;
 	pl->inm = inm != NULL ? xstrdup(inm) : NULL;
+	pl->accept = accept != NULL ? xstrdup(accept) : NULL;
 	/* Deferred before it is queued: a plan may come at once. */
 	http_defer(rq);
 	r = service_plan_wait(rq->svc, after, wait_s * 1e3, poll_done, pl,
@@ -160,22 +180,155 @@ h_plan_summary(struct req *rq, struct err *e)
 		return 0;
 	http_undefer(rq);
 	free(pl->inm);
+	free(pl->accept);
 	free(pl);
 	if (r != 0)
 		return r;
-	return plan_text(rq, SUMMARY, inm, e);
+	return plan_text(rq, inm, accept, e);
+}
+
+/*
+ * Resolves query parameter key (a node id, or a link id when link) to an
+ * index of m in *idxp; -1 when absent.  An empty value is ERR_INVALID, an
+ * id not in m ERR_NOTFOUND (as GET /v1/plan/forwarding answers).
+ */
+static int
+id_param(struct req *rq, const struct model *m, const char *key, bool link,
+    long *idxp, struct err *e)
+{
+	const char *id, *what = link ? "link" : "node";
+
+	*idxp = -1;
+	if ((id = http_query(rq, key)) == NULL)
+		return 0;
+	if (id[0] == '\0')
+		return err_set(e, ERR_INVALID, key, "the query parameter %s "
+		    "must name a %s", key, what);
+	*idxp = link ? model_find_link(m, id) : model_find_node(m, id);
+	if (*idxp < 0)
+		return err_set(e, ERR_NOTFOUND, key, "no %s \"%.128s\" in the "
+		    "planned topology", what, id);
+	return 0;
+}
+
+/* A streamed list and the plan reference that keeps its plan alive. */
+struct list_ctx {
+	struct published *pub;	/* reference held */
+	struct plan_list *l;	/* owned; borrows pub's model and plan */
+};
+
+static long
+list_fill(void *ctx, char *buf, size_t max)
+{
+	struct list_ctx *c = ctx;
+
+	return plan_list_fill(c->l, buf, max);
+}
+
+static void
+list_done(void *ctx)
+{
+	struct list_ctx *c = ctx;
+
+	plan_list_free(c->l);
+	service_plan_unref(c->pub);
+	free(c);
+}
+
+/*
+ * GET /v1/plan/routes and /v1/plan/loads: the query checked, the plan
+ * chosen (the newest, or the cursor's), the filters resolved against its
+ * model, then the list streamed (or 304).
+ */
+static int
+plan_list_reply(struct req *rq, enum plan_list_kind kind, struct err *e)
+{
+	static const char *const routes_params[] = { "src", "dst", "link",
+	    "limit", "after", NULL };
+	static const char *const loads_params[] = { "node", "link", "limit",
+	    "after", NULL };
+	struct plan_list_opts o = { .kind = kind, .src = -1, .dst = -1,
+	    .link = -1, .node = -1 };
+	struct published *pub = NULL;
+	struct list_ctx *c;
+	struct http_stream *s;
+	enum compress_coding coding;
+	char etag[32];
+	int64_t rev;
+	size_t start;
+	bool has_after;
+	int r;
+
+	r = ERR_INTERNAL;
+	if ((r = http_query_check(rq, kind == PLAN_LIST_ROUTES ?
+	    routes_params : loads_params, e)) != 0 ||
+	    (r = query_page(http_query(rq, "limit"), http_query(rq, "after"),
+	    &o.limit, &has_after, &rev, &start, e)) != 0)
+		return r;
+	if ((pub = service_plan_ref(rq->svc)) == NULL)
+		return err_set(e, ERR_BUSY, "", "no plan has been published "
+		    "yet; retry shortly");
+	if (has_after && rev != pub->revision) {
+		service_plan_unref(pub);
+		if ((pub = service_plan_ref_rev(rq->svc, rev)) == NULL)
+			return err_set(e, ERR_CONFLICT, "after", "the cursor "
+			    "belongs to plan revision %lld, which is no longer "
+			    "kept (the last %d plans are); start again without "
+			    "after", (long long)rev, SERVICE_PLANS_KEPT);
+	}
+	if (pub->model == NULL) {
+		r = err_set(e, ERR_INTERNAL, "", "published plan has no model");
+		goto out;
+	}
+	if (kind == PLAN_LIST_ROUTES) {
+		if ((r = id_param(rq, pub->model, "src", false, &o.src,
+		    e)) != 0 ||
+		    (r = id_param(rq, pub->model, "dst", false, &o.dst,
+		    e)) != 0)
+			goto out;
+	} else if ((r = id_param(rq, pub->model, "node", false, &o.node,
+	    e)) != 0) {
+		goto out;
+	}
+	if ((r = id_param(rq, pub->model, "link", true, &o.link, e)) != 0)
+		goto out;
+	if (has_after && start > plan_list_size(pub->model, pub->plan,
+	    kind)) {
+		r = err_set(e, ERR_INVALID, "after", "the cursor points past "
+		    "the end of plan revision %lld", (long long)rev);
+		goto out;
+	}
+	o.start = start;
+	o.paged = o.limit > 0 || has_after;
+	coding = http_coding(rq, SIZE_MAX);
+	plan_etag(pub->revision, coding, etag, sizeof(etag));
+	if (none_match(http_header(rq, "If-None-Match"), etag)) {
+		reply_not_modified(rq, etag);
+		r = 0;
+		goto out;
+	}
+	c = xcalloc(1, sizeof(*c));
+	c->l = plan_list_new(pub->model, pub->plan, pub->revision, &o);
+	c->pub = pub;
+	pub = NULL;
+	s = http_stream_new(rq, list_fill, list_done, c);
+	reply_list(rq, s, c->pub->revision);
+	r = 0;
+out:
+	service_plan_unref(pub);
+	return r;
 }
 
 int
 h_plan_routes(struct req *rq, struct err *e)
 {
-	return plan_text(rq, ROUTES, http_header(rq, "If-None-Match"), e);
+	return plan_list_reply(rq, PLAN_LIST_ROUTES, e);
 }
 
 int
 h_plan_loads(struct req *rq, struct err *e)
 {
-	return plan_text(rq, LOADS, http_header(rq, "If-None-Match"), e);
+	return plan_list_reply(rq, PLAN_LIST_LOADS, e);
 }
 
 int

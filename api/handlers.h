@@ -47,6 +47,9 @@ int h_model_export(struct req *rq, struct err *e);
 /* h_fwd.c */
 int h_plan_forwarding(struct req *rq, struct err *e);
 
+/* h_snapshot.c */
+int h_snapshot(struct req *rq, struct err *e);
+
 /* h_diff.c */
 int h_plan_diff(struct req *rq, struct err *e);
 

@@ -30,6 +30,11 @@
  * reader suspends the connection and returns 0, and http_stream_wake()
  * resumes it; the woken flag, under the stream's lock, keeps a wake that
  * comes while the stream is being read from being lost.
+ * A reply marked compressible gets Vary: Accept-Encoding and, when the
+ * client accepts it, a content coding (api/compress.h): a whole body is
+ * compressed once before it is queued, a streamed one piece by piece in
+ * the content reader; the entity tag then names the coding ("12-gzip"),
+ * since the coded bytes are another representation (RFC 9110, 8.8.3).
  */
 
 #include <sys/socket.h>
@@ -50,6 +55,7 @@
 
 #include "http.h"
 #include "auth.h"
+#include "compress.h"
 #include "../daemon/base/clock.h"
 #include "../daemon/base/err.h"
 #include "../daemon/base/log.h"
@@ -76,6 +82,7 @@ struct http_stream {
 	http_fill_fn *fill;
 	http_done_fn *done;
 	void *ctx;
+	struct compress *z;	/* owned: the content coding, or NULL */
 	bool woken;		/* under mu: wake since the last fill */
 	bool suspended;		/* under mu: suspended by the reader */
 };
@@ -107,6 +114,61 @@ const char *
 http_header(struct req *rq, const char *key)
 {
 	return MHD_lookup_connection_value(rq->conn, MHD_HEADER_KIND, key);
+}
+
+enum compress_coding
+http_coding(struct req *rq, size_t len)
+{
+	enum compress_coding c;
+
+	c = compress_choose(http_header(rq,
+	    MHD_HTTP_HEADER_ACCEPT_ENCODING), len);
+	rq->coding = (int)c;
+	rq->coding_set = true;
+	return c;
+}
+
+/* http_query_check()'s walk over the query parameters. */
+struct qcheck {
+	const char *const *allowed;	/* at most 32 names */
+	uint32_t seen;		/* bit i: allowed[i] was met */
+	struct err *e;
+	int r;
+};
+
+static enum MHD_Result
+qcheck_one(void *cls, enum MHD_ValueKind kind, const char *key,
+    const char *value)
+{
+	struct qcheck *qc = cls;
+	size_t i;
+
+	(void)kind;
+	for (i = 0; i < 32 && qc->allowed[i] != NULL; i++)
+		if (strcmp(qc->allowed[i], key) == 0)
+			break;
+	if (i == 32 || qc->allowed[i] == NULL)
+		qc->r = err_set(qc->e, ERR_INVALID, key, "unknown query "
+		    "parameter \"%.64s\"", key);
+	else if (value == NULL)
+		qc->r = err_set(qc->e, ERR_INVALID, key, "the query "
+		    "parameter %s needs a value", key);
+	else if (qc->seen & (UINT32_C(1) << i))
+		/* A repeated parameter would be read as its first value. */
+		qc->r = err_set(qc->e, ERR_INVALID, key, "the query "
+		    "parameter %s is given more than once", key);
+	qc->seen |= UINT32_C(1) << (i & 31);
+	return qc->r == 0 ? MHD_YES : MHD_NO;
+}
+
+int
+http_query_check(struct req *rq, const char *const *allowed, struct err *e)
+{
+	struct qcheck qc = { allowed, 0, e, 0 };
+
+	(void)MHD_get_connection_values(rq->conn, MHD_GET_ARGUMENT_KIND,
+	    qcheck_one, &qc);
+	return qc.r;
 }
 
 /* Frees rq and everything it owns. */
@@ -242,6 +304,7 @@ http_stream_free(struct http_stream *s)
 	if (s == NULL)
 		return;
 	s->done(s->ctx);
+	compress_free(s->z);
 	pthread_mutex_destroy(&s->mu);
 	free(s);
 }
@@ -270,7 +333,8 @@ stream_read(void *cls, uint64_t pos, char *buf, size_t max)
 		pthread_mutex_lock(&s->mu);
 		s->woken = false;
 		pthread_mutex_unlock(&s->mu);
-		n = s->fill(s->ctx, buf, max);
+		n = s->z != NULL ? compress_fill(s->z, s->fill, s->ctx, buf,
+		    max) : s->fill(s->ctx, buf, max);
 		if (n > 0)
 			return (ssize_t)n;
 		if (n < 0)
@@ -345,12 +409,59 @@ challenge(const struct req *rq)
 	return "Bearer realm=\"weft\"";
 }
 
+/*
+ * Gives rq's reply the content coding the client accepts, if it is
+ * compressible: a whole body is replaced by its compressed bytes (a
+ * borrowed plan text is released), a stream gets a compressor, and the
+ * entity tag names the coding.  Returns the coding applied.
+ */
+static enum compress_coding
+encode(struct req *rq)
+{
+	enum compress_coding c;
+	char *z, etag[sizeof(rq->etag)];
+	size_t zlen, n;
+
+	if (!rq->compressible || rq->status == 304 || rq->status == 204)
+		return COMPRESS_IDENTITY;
+	c = rq->coding_set ? (enum compress_coding)rq->coding :
+	    compress_choose(http_header(rq, MHD_HTTP_HEADER_ACCEPT_ENCODING),
+	    rq->out_stream != NULL ? SIZE_MAX : rq->out_len);
+	if (c == COMPRESS_IDENTITY)
+		return c;
+	if (rq->out_stream != NULL) {
+		rq->out_stream->z = compress_new(c);
+	} else {
+		if (compress_buffer(c, rq->out, rq->out_len, &z, &zlen) != 0) {
+			log_err("cannot compress a reply id=%s coding=%s",
+			    rq->id, compress_word(c));
+			return COMPRESS_IDENTITY;
+		}
+		if (rq->out_plan != NULL) {
+			service_plan_unref(rq->out_plan);
+			rq->out_plan = NULL;
+		} else {
+			free(rq->out);
+		}
+		rq->out = z;
+		rq->out_len = zlen;
+	}
+	n = strlen(rq->etag);
+	if (n >= 2 && rq->etag[n - 1] == '"') {
+		snprintf(etag, sizeof(etag), "%.*s-%s\"", (int)(n - 1),
+		    rq->etag, compress_word(c));
+		memcpy(rq->etag, etag, sizeof(etag));
+	}
+	return c;
+}
+
 /* Step 3: turns rq's reply into a response and queues it. */
 static enum MHD_Result
 send_reply(struct MHD_Connection *conn, struct req *rq)
 {
 	struct MHD_Response *resp;
 	enum MHD_Result ret;
+	enum compress_coding coding;
 	char num[32];
 	bool streamed;
 
@@ -361,10 +472,13 @@ send_reply(struct MHD_Connection *conn, struct req *rq)
 		reply_error(rq, ERR_INTERNAL, &e);
 	}
 	audit(conn, rq);
+	coding = encode(rq);
 	streamed = rq->out_stream != NULL;
 	if (streamed) {
+		/* Event streams send little at a time; lists a lot. */
 		resp = MHD_create_response_from_callback(MHD_SIZE_UNKNOWN,
-		    4096, stream_read, rq->out_stream, stream_free);
+		    rq->no_store ? 4096 : 32768, stream_read, rq->out_stream,
+		    stream_free);
 		if (resp != NULL)
 			rq->out_stream = NULL;
 	} else if (rq->out_plan != NULL) {
@@ -399,9 +513,15 @@ send_reply(struct MHD_Connection *conn, struct req *rq)
 		MHD_add_response_header(resp, MHD_HTTP_HEADER_RETRY_AFTER,
 		    num);
 	}
-	if (rq->status >= 400 || streamed)
+	if (rq->status >= 400 || rq->no_store)
 		MHD_add_response_header(resp, MHD_HTTP_HEADER_CACHE_CONTROL,
 		    "no-store");
+	if (rq->compressible)
+		MHD_add_response_header(resp, MHD_HTTP_HEADER_VARY,
+		    MHD_HTTP_HEADER_ACCEPT_ENCODING);
+	if (coding != COMPRESS_IDENTITY)
+		MHD_add_response_header(resp,
+		    MHD_HTTP_HEADER_CONTENT_ENCODING, compress_word(coding));
 	ret = MHD_queue_response(conn, (unsigned)rq->status, resp);
 	MHD_destroy_response(resp);
 	return ret;

@@ -22,6 +22,7 @@
 
 #include "../daemon/base/err.h"
 #include "auth.h"
+#include "compress.h"
 
 struct http;
 struct http_stream;
@@ -87,6 +88,11 @@ struct req {
 	char etag[32];		/* ETag header, "" if none */
 	struct http_stream *out_stream;	/* owned until sent: a streamed
 					   body (http_stream_new) */
+	bool no_store;		/* Cache-Control: no-store (events) */
+	bool compressible;	/* may get a content coding (api/compress.h);
+				   adds Vary: Accept-Encoding */
+	bool coding_set;	/* coding already chosen (http_coding()) */
+	int coding;		/* enum compress_coding, when coding_set */
 	/* deferred replies (http_defer) */
 	void *http;		/* borrowed: the server */
 	int defer;		/* enum in http.c, under the server's lock */
@@ -120,6 +126,22 @@ const char *http_query(struct req *rq, const char *key);
 const char *http_header(struct req *rq, const char *key);
 
 /*
+ * Checks that every query parameter of rq is named in allowed (a NULL-
+ * terminated list), appears once and has a value.  Returns 0, or
+ * ERR_INVALID with where the offending parameter's name.
+ */
+int http_query_check(struct req *rq, const char *const *allowed,
+    struct err *e);
+
+/*
+ * Chooses, as compress_choose() (api/compress.h), the content coding of
+ * rq's reply of len bytes (SIZE_MAX: streamed) from its Accept-Encoding,
+ * and fixes it for that reply, so a handler can name the coding in its
+ * entity tag before it answers a conditional request.  Handler threads.
+ */
+enum compress_coding http_coding(struct req *rq, size_t len);
+
+/*
  * A handler that hands its work to another thread calls http_defer(rq)
  * and returns 0 without a reply: the connection is suspended (no HTTP
  * thread waits).  The other thread sets the reply on rq, then calls
@@ -143,7 +165,7 @@ void http_undefer(struct req *rq);
  * response is gone, or it was never sent); after it returns fill() is not
  * called again and the caller must not wake the stream any more.
  */
-#define HTTP_FILL_END	(-1L)
+#define HTTP_FILL_END	COMPRESS_END	/* -1 */
 typedef long http_fill_fn(void *ctx, char *buf, size_t max);
 typedef void http_done_fn(void *ctx);
 

@@ -3,6 +3,7 @@
 
 #include <errno.h>
 #include <math.h>
+#include <stdint.h>
 #include <stdlib.h>
 #include <string.h>
 
@@ -92,6 +93,60 @@ query_export(const char *format, const char *stage, enum export_format *fmtp,
 			    "parameter stage must be an integer from -1 (the "
 			    "last stage) to %d", PLAN_STAGES_MAX - 1);
 		*stagep = (int)x;
+	}
+	return 0;
+}
+
+/*
+ * Reads the decimal digits from s up to stop (NUL or a '.'), no sign, at
+ * least one digit, into *xp; false when they do not fit in max.
+ */
+static bool
+digits(const char *s, const char **endp, unsigned long long max,
+    unsigned long long *xp)
+{
+	unsigned long long x = 0;
+	const char *p = s;
+
+	for (; *p >= '0' && *p <= '9'; p++) {
+		if (x > (max - (unsigned long long)(*p - '0')) / 10)
+			return false;
+		x = x * 10 + (unsigned long long)(*p - '0');
+	}
+	*endp = p;
+	*xp = x;
+	return p != s;
+}
+
+int
+query_page(const char *limit, const char *after, size_t *limitp,
+    bool *has_afterp, int64_t *revp, size_t *indexp, struct err *e)
+{
+	unsigned long long x, k;
+	const char *end;
+
+	*limitp = 0;
+	*has_afterp = false;
+	*revp = 0;
+	*indexp = 0;
+	if (limit != NULL) {
+		if (!digits(limit, &end, QUERY_LIMIT_MAX, &x) || *end != '\0' ||
+		    x < 1)
+			return err_set(e, ERR_INVALID, "limit", "the query "
+			    "parameter limit must be an integer from 1 to %d",
+			    QUERY_LIMIT_MAX);
+		*limitp = (size_t)x;
+	}
+	if (after != NULL) {
+		if (!digits(after, &end, INT64_MAX, &x) || *end != '.' ||
+		    x < 1 || !digits(end + 1, &end, SIZE_MAX / 2, &k) ||
+		    *end != '\0')
+			return err_set(e, ERR_INVALID, "after", "the query "
+			    "parameter after must be a cursor as a reply's "
+			    "\"next\" gives it");
+		*revp = (int64_t)x;
+		*indexp = (size_t)k;
+		*has_afterp = true;
 	}
 	return 0;
 }

@@ -16,6 +16,7 @@
  */
 
 #include <stdbool.h>
+#include <stddef.h>
 #include <stdint.h>
 
 #include "../daemon/engine/engine.h"
@@ -40,5 +41,17 @@ int query_from(const char *from, int64_t *revp, struct err *e);
  */
 int query_export(const char *format, const char *stage,
     enum export_format *fmtp, int *stagep, struct err *e);
+
+/* The largest page GET /v1/plan/routes and /v1/plan/loads give. */
+#define QUERY_LIMIT_MAX	1000000
+
+/*
+ * GET /v1/plan/routes|loads?limit=N&after=C: limit an integer from 1 to
+ * QUERY_LIMIT_MAX (*limitp 0 when absent); after a cursor "R.K" as a
+ * reply's "next" gives it, R a plan revision >= 1 and K an index >= 0,
+ * both decimal without sign (*has_afterp false when absent).
+ */
+int query_page(const char *limit, const char *after, size_t *limitp,
+    bool *has_afterp, int64_t *revp, size_t *indexp, struct err *e);
 
 #endif /* WEFT_API_QUERY_H */

@@ -6,11 +6,13 @@
  * Handlers (on HTTP threads) set their request's reply here; http.c reads
  * the fields back and builds the libmicrohttpd response.  The reply body
  * is owned by the request (rq->out) unless it borrows a published plan's
- * pre-rendered text, in which case the request holds a plan reference
+ * pre-rendered summary, in which case the request holds a plan reference
  * (rq->out_plan) until the response is freed.  reply_error() is the only
  * way a failure reaches a client: one code-to-status table, one body
  * shape, and no internal detail in 5xx bodies (the log has it, under the
- * request id).
+ * request id).  JSON and text replies are marked compressible (http.c
+ * gives them the coding the client accepts); event streams are not, as
+ * their events must not wait in a compressor.
  */
 
 #include <stdarg.h>
@@ -66,6 +68,8 @@ reply_clear(struct req *rq)
 	rq->ctype = NULL;
 	rq->retry_after_s = 0;
 	rq->etag[0] = '\0';
+	rq->no_store = false;
+	rq->compressible = false;
 }
 
 void
@@ -76,6 +80,7 @@ reply_json(struct req *rq, int status, char *text, size_t len)
 	rq->ctype = "application/json";
 	rq->out = text;
 	rq->out_len = len;
+	rq->compressible = true;
 }
 
 int
@@ -96,6 +101,7 @@ reply_text(struct req *rq, const char *ctype, char *text, size_t len)
 	rq->ctype = ctype;
 	rq->out = text;
 	rq->out_len = len;
+	rq->compressible = true;
 }
 
 void
@@ -109,6 +115,7 @@ reply_plan(struct req *rq, struct published *pub, const char *text,
 	/* Not written through: out_plan set means out is borrowed. */
 	rq->out = (char *)text;
 	rq->out_len = len;
+	rq->compressible = true;
 	snprintf(rq->etag, sizeof(rq->etag), "\"%lld\"",
 	    (long long)pub->revision);
 }
@@ -118,6 +125,8 @@ reply_not_modified(struct req *rq, const char *etag)
 {
 	reply_clear(rq);
 	rq->status = 304;
+	/* Vary as the 200 would have it (RFC 9110, 15.4.5). */
+	rq->compressible = true;
 	snprintf(rq->etag, sizeof(rq->etag), "%s", etag);
 }
 
@@ -128,6 +137,19 @@ reply_stream(struct req *rq, const char *ctype, struct http_stream *s)
 	rq->status = 200;
 	rq->ctype = ctype;
 	rq->out_stream = s;
+	rq->no_store = true;
+}
+
+void
+reply_list(struct req *rq, struct http_stream *s, int64_t revision)
+{
+	reply_clear(rq);
+	rq->status = 200;
+	rq->ctype = "application/json";
+	rq->out_stream = s;
+	rq->compressible = true;
+	snprintf(rq->etag, sizeof(rq->etag), "\"%lld\"",
+	    (long long)revision);
 }
 
 /* Dumps j compactly with full precision; returns NULL on failure. */
@@ -263,4 +285,6 @@ reply_error(struct req *rq, int r, const struct err *e)
 	rq->ctype = "application/json";
 	rq->out = s;
 	rq->out_len = len;
+	rq->compressible = true;
+	rq->coding_set = false;
 }

@@ -71,9 +71,17 @@ void reply_not_modified(struct req *rq, const char *etag);
 
 /*
  * Replies 200 with Content-Type ctype (static) and a body streamed from
- * s (api/http.h), which the reply takes over.
+ * s (api/http.h), which the reply takes over; Cache-Control: no-store and
+ * never compressed (an event stream).
  */
 void reply_stream(struct req *rq, const char *ctype, struct http_stream *s);
+
+/*
+ * Replies 200 with a JSON body streamed from s (a plan list: never "nothing
+ * now"), which the reply takes over; ETag is plan revision revision and
+ * the body may be compressed piece by piece (api/compress.h).
+ */
+void reply_list(struct req *rq, struct http_stream *s, int64_t revision);
 
 /* Frees whatever reply rq holds (the completion path; NULL ok). */
 void reply_clear(struct req *rq);

@@ -45,6 +45,7 @@ static const struct route routes[] = {
 	    AUTH_READ },
 	{ "GET", "/v1/plan/diff", h_plan_diff, BODY_NONE, 0, AUTH_READ },
 	{ "GET", "/v1/model", h_model_export, BODY_NONE, 0, AUTH_READ },
+	{ "GET", "/v1/snapshot", h_snapshot, BODY_NONE, 0, AUTH_READ },
 	{ "POST", "/v1/whatif", h_whatif, BODY_JSON, ROUTE_BODY_CONF,
 	    AUTH_OPERATE },
 	{ "POST", "/v1/sweeps", h_sweep_start, BODY_JSON, SMALL_BODY,

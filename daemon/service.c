@@ -6,16 +6,21 @@
  * HTTP threads call in here.  Writes and table reads go through one
  * SQLite connection under db_mu (WAL lets the solver thread read its own
  * snapshot meanwhile); a write wakes the solver only after it commits.
- * The solver thread calls publish(), which renders the plan's JSON once,
- * records the summary in the plan history and swaps the published pointer
- * under pub_mu.  Readers take a reference under pub_mu and release it
- * whenever they are done; the last reference frees the plan.  A failed
- * solve leaves the last good plan published and records the error.  The
- * last SERVICE_PLANS_KEPT published plans also stay referenced in a ring
- * (under pub_mu), so GET /v1/plan/diff can compare with them.  After
- * the swap, publish() tells the long polls waiting for a newer plan
- * (planwait.c) and posts a "plan" event (events.c); a committed write
- * posts a "model" event.  The monitoring counters (stats.h) live here.
+ * The solver thread calls publish(), which renders the plan's summary
+ * once (the routes and loads are streamed from the plan by the HTTP
+ * layer, never held as text: api/plan_list.h), records it in the plan
+ * history and swaps the published pointer under pub_mu.  Readers take a
+ * reference under pub_mu and release it whenever they are done; the last
+ * reference frees the plan.  A failed solve leaves the last good plan
+ * published and records the error.  The last SERVICE_PLANS_KEPT published
+ * plans (fewer when together they would hold more than
+ * SERVICE_PLANS_BYTES, but at least SERVICE_PLANS_MIN) also stay
+ * referenced, oldest first (under pub_mu), so GET
+ * /v1/plan/diff can compare with them and a page cursor can be served
+ * from its own plan.  After the swap, publish() tells the long polls
+ * waiting for a newer plan (planwait.c) and posts a "plan" event
+ * (events.c); a committed write posts a "model" event.  The monitoring
+ * counters (stats.h) live here.
  */
 
 #include <sys/stat.h>
@@ -46,11 +51,11 @@ struct service {
 	struct db *db;			/* owned, under db_mu */
 	pthread_mutex_t pub_mu;
 	struct published *cur;		/* owned reference, under pub_mu */
-	struct published *kept[SERVICE_PLANS_KEPT];	/* owned references
-					   to the last plans published, a
-					   ring under pub_mu; kept_head is
-					   the oldest slot once full */
-	size_t kept_n, kept_head;
+	struct published *kept[SERVICE_PLANS_KEPT + 1];	/* owned
+					   references, oldest first, under
+					   pub_mu */
+	size_t kept_n;
+	size_t kept_bytes;		/* sum of their bytes */
 	int64_t next_plan_revision;	/* solver thread only */
 	struct service_status st;	/* failure fields under pub_mu */
 	struct solver *solver;		/* owned */
@@ -69,8 +74,6 @@ published_free(struct published *p)
 	model_free(p->model);
 	plan_free(p->plan);
 	free(p->summary_json);
-	free(p->routes_json);
-	free(p->loads_json);
 	free(p->metrics_text);
 	free(p);
 }
@@ -224,25 +227,53 @@ service_plans_kept(struct service *svc, int64_t *oldestp, int64_t *newestp)
 	pthread_mutex_unlock(&svc->pub_mu);
 }
 
-/*
- * Adds pub to the ring of kept plans with a reference of its own; returns
- * the plan it pushed out (whose reference the caller drops after
- * unlocking), or NULL.  Called under pub_mu.
- */
-static struct published *
-keep(struct service *svc, struct published *pub)
+/* About how much memory a published plan holds: plan, model, texts. */
+static size_t
+published_bytes(const struct published *pub)
 {
-	struct published *out = NULL;
+	const struct model *m = pub->model;
+	const struct plan *p = pub->plan;
+	size_t n = sizeof(*pub) + pub->summary_len + pub->metrics_len, k, i;
+
+	n += m->n_nodes * (sizeof(struct node) + 2 * MODEL_ID_MAX / 4) +
+	    m->n_links * (sizeof(struct link) + MODEL_ID_MAX / 4) +
+	    m->n_demands * sizeof(struct demand);
+	if (p == NULL)
+		return n;
+	n += p->n_routes * sizeof(struct plan_route) +
+	    p->n_arcs * sizeof(struct plan_arc);
+	for (k = 0; k < p->n_routes; k++) {
+		n += p->routes[k].n_paths * sizeof(struct plan_path);
+		for (i = 0; i < p->routes[k].n_paths; i++)
+			n += p->routes[k].paths[i].n_arcs * sizeof(size_t);
+	}
+	return n;
+}
+
+/*
+ * Adds pub to the kept plans with a reference of its own and drops the
+ * oldest beyond SERVICE_PLANS_KEPT, or beyond SERVICE_PLANS_BYTES (keeping
+ * SERVICE_PLANS_MIN); returns how many it put in out[] (whose references
+ * the caller drops after unlocking).  Called under pub_mu.
+ */
+static size_t
+keep(struct service *svc, struct published *pub, struct published **out)
+{
+	size_t n_out = 0;
 
 	atomic_fetch_add(&pub->refs, 1);
-	if (svc->kept_n < SERVICE_PLANS_KEPT) {
-		svc->kept[svc->kept_n++] = pub;
-		return NULL;
+	svc->kept[svc->kept_n++] = pub;
+	svc->kept_bytes += pub->bytes;
+	while (svc->kept_n > SERVICE_PLANS_KEPT ||
+	    (svc->kept_n > SERVICE_PLANS_MIN &&
+	    svc->kept_bytes > SERVICE_PLANS_BYTES)) {
+		out[n_out++] = svc->kept[0];
+		svc->kept_bytes -= svc->kept[0]->bytes;
+		svc->kept_n--;
+		memmove(svc->kept, svc->kept + 1,
+		    svc->kept_n * sizeof(svc->kept[0]));
 	}
-	out = svc->kept[svc->kept_head];
-	svc->kept[svc->kept_head] = pub;
-	svc->kept_head = (svc->kept_head + 1) % SERVICE_PLANS_KEPT;
-	return out;
+	return n_out;
 }
 
 /* Runs on the solver thread; takes ownership of m, p and sd. */
@@ -251,11 +282,12 @@ publish(void *ctx, struct model *m, struct plan *p, struct engine_seed *sd,
     const struct err *e)
 {
 	struct service *svc = ctx;
-	struct published *pub, *old, *dropped;
+	struct published *pub, *old, *dropped[SERVICE_PLANS_KEPT + 1];
 	struct seed_box *box, *old_box;
 	struct err re = { 0 };
 	struct event ev;
 	int64_t failed = -1;
+	size_t i, n_dropped;
 
 	if (p == NULL) {
 		atomic_fetch_add(&svc->stats.solves_failed, 1);
@@ -287,8 +319,7 @@ publish(void *ctx, struct model *m, struct plan *p, struct engine_seed *sd,
 	pub->model = m;
 	pub->plan = p;
 	if (codec_plan_render(m, p, pub->revision, &pub->summary_json,
-	    &pub->summary_len, &pub->routes_json, &pub->routes_len,
-	    &pub->loads_json, &pub->loads_len) != 0) {
+	    &pub->summary_len, NULL, NULL, NULL, NULL) != 0) {
 		/* Our own bug: keep serving the last good plan. */
 		log_err("plan rendering failed model_revision=%lld",
 		    (long long)m->revision);
@@ -301,6 +332,7 @@ publish(void *ctx, struct model *m, struct plan *p, struct engine_seed *sd,
 	}
 	metrics_render_plan(m, p, pub->revision, &pub->metrics_text,
 	    &pub->metrics_len);
+	pub->bytes = published_bytes(pub);
 	box = xcalloc(1, sizeof(*box));
 	atomic_init(&box->refs, 1);
 	atomic_fetch_add(&pub->refs, 1);
@@ -319,12 +351,13 @@ publish(void *ctx, struct model *m, struct plan *p, struct engine_seed *sd,
 	svc->cur = pub;
 	old_box = svc->seed;
 	svc->seed = box;
-	dropped = keep(svc, pub);
+	n_dropped = keep(svc, pub, dropped);
 	svc->st.last_solve_failed = false;
 	svc->st.last_error[0] = '\0';
 	pthread_mutex_unlock(&svc->pub_mu);
 	service_plan_unref(old);
-	service_plan_unref(dropped);
+	for (i = 0; i < n_dropped; i++)
+		service_plan_unref(dropped[i]);
 	service_seed_unref(old_box);
 	stats_solve(&svc->stats, p->solve_ms);
 	planwait_published(svc->waits, pub->revision);

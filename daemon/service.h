@@ -28,8 +28,10 @@ struct service;
 struct solver;
 
 /*
- * A published plan: immutable once published.  The JSON texts are
- * pre-rendered when published so readers only copy bytes.
+ * A published plan: immutable once published.  The summary is
+ * pre-rendered when published so readers only copy bytes; the routes and
+ * loads, which grow with the matrix, are rendered from model and plan as
+ * they are sent (api/plan_list.h).
  */
 struct published {
 	atomic_int refs;
@@ -39,13 +41,10 @@ struct published {
 	struct plan *plan;	/* owned; NULL when the solve failed */
 	char *summary_json;	/* owned, NUL-terminated */
 	size_t summary_len;
-	char *routes_json;	/* owned */
-	size_t routes_len;
-	char *loads_json;	/* owned */
-	size_t loads_len;
 	char *metrics_text;	/* owned: the plan's part of GET /metrics
 				   (api/metrics.h) */
 	size_t metrics_len;
+	size_t bytes;		/* memory of plan, model and texts, about */
 };
 
 /* Service settings, from the config. */
@@ -116,14 +115,19 @@ int service_status(struct service *svc, struct service_status *st,
 struct published *service_plan_ref(struct service *svc);
 void service_plan_unref(struct published *p);
 
-#define SERVICE_PLANS_KEPT	32	/* published plans kept for diffs */
+#define SERVICE_PLANS_KEPT	32	/* plans kept for diffs, page cursors */
+/* Beyond the newest SERVICE_PLANS_MIN, kept plans are dropped, oldest
+   first, once together they hold more than SERVICE_PLANS_BYTES (a plan of
+   a 567,762-demand matrix holds about 150 MB). */
+#define SERVICE_PLANS_MIN	2
+#define SERVICE_PLANS_BYTES	((size_t)1 << 30)
 
 /*
  * Returns published plan revision rev with a reference taken, or NULL
- * when it is not among the last SERVICE_PLANS_KEPT published (or was
- * never published).  Release it with service_plan_unref().  The kept
- * plans hold their model snapshots, so memory grows with up to
- * SERVICE_PLANS_KEPT plans and models; after a restart none is kept.
+ * when it is not among the plans kept (the last SERVICE_PLANS_KEPT
+ * published, fewer when they are large: SERVICE_PLANS_BYTES) or was
+ * never published.  Release it with service_plan_unref().  The kept
+ * plans hold their model snapshots; after a restart none is kept.
  */
 struct published *service_plan_ref_rev(struct service *svc, int64_t rev);
 

@@ -11,7 +11,7 @@
 #include "events.h"
 #include "service.h"
 #include "stats.h"
-#include "whatif.h"
+#include "sweepset.h"
 #include "workers.h"
 #include "base/clock.h"
 #include "base/err.h"
@@ -41,9 +41,8 @@ struct sweep {
 	char kind[16];
 	double scale, time_limit_s;
 	struct seed_box *box;	/* the live plan: a reference */
-	size_t n;		/* scenarios */
-	size_t *off, *links;	/* scenario i takes down links[off[i]..] */
-	char **fail_json;	/* per scenario */
+	size_t n;		/* scenarios: set.n */
+	struct sweepset set;	/* owned: the scenarios */
 	struct sweep_task *tasks;
 	double t0;		/* ms */
 	/* Under owner->mu: */
@@ -112,16 +111,11 @@ sweep_free(struct sweep *sw)
 	if (sw == NULL)
 		return;
 	service_seed_unref(sw->box);
-	for (i = 0; i < sw->n; i++) {
-		free(sw->fail_json[i]);
-		if (sw->all != NULL) {
-			free(sw->all[i].fail_json);
-			free(sw->all[i].error);
-		}
+	for (i = 0; i < sw->n && sw->all != NULL; i++) {
+		free(sw->all[i].fail_json);
+		free(sw->all[i].error);
 	}
-	free(sw->fail_json);
-	free(sw->off);
-	free(sw->links);
+	sweepset_clear(&sw->set);
 	free(sw->tasks);
 	free(sw->all);
 	free(sw->have);
@@ -129,134 +123,6 @@ sweep_free(struct sweep *sw)
 	free(sw->worst);
 	free(sw->worst_idx);
 	free(sw);
-}
-
-/* ---- the scenarios of a kind ---- */
-
-struct builder {
-	size_t n, cap_sc, n_links, cap_links;
-	size_t *off, *links;
-	char **fail_json;
-};
-
-static void
-add_link(struct builder *b, size_t l)
-{
-	if (b->n_links == b->cap_links) {
-		b->cap_links = 2 * b->cap_links + 64;
-		b->links = xreallocarray(b->links, b->cap_links,
-		    sizeof(*b->links));
-	}
-	b->links[b->n_links++] = l;
-}
-
-/* Closes the scenario being built, labelled by fail_json (taken). */
-static void
-close_scenario(struct builder *b, char *fail_json)
-{
-	if (b->n + 1 >= b->cap_sc) {
-		b->cap_sc = 2 * b->cap_sc + 64;
-		b->off = xreallocarray(b->off, b->cap_sc + 1,
-		    sizeof(*b->off));
-		b->fail_json = xreallocarray(b->fail_json, b->cap_sc + 1,
-		    sizeof(*b->fail_json));
-	}
-	b->fail_json[b->n] = fail_json;
-	b->n++;
-	b->off[b->n] = b->n_links;
-}
-
-static int
-cmp_u32(const void *x, const void *y)
-{
-	uint32_t a = *(const uint32_t *)x, c = *(const uint32_t *)y;
-
-	return a < c ? -1 : a > c;
-}
-
-/* Counts the scenarios of kind on m without making them. */
-static int
-count(const struct model *m, const char *kind, long *np, struct err *e)
-{
-	size_t l, up = 0;
-
-	for (l = 0; l < m->n_links; l++)
-		up += m->links[l].up;
-	if (strcmp(kind, "links") == 0)
-		*np = (long)up;
-	else if (strcmp(kind, "nodes") == 0)
-		*np = (long)m->n_nodes;
-	else if (strcmp(kind, "link-pairs") == 0)
-		*np = up < 2 ? 0 : (long)(up * (up - 1) / 2);
-	else if (strcmp(kind, "srlgs") == 0)
-		*np = -1;	/* counted when built */
-	else
-		return err_set(e, ERR_INVALID, "kind", "unknown sweep kind "
-		    "\"%s\" (links, nodes, srlgs, link-pairs)", kind);
-	return 0;
-}
-
-static void
-build(struct builder *b, const struct model *m, const char *kind)
-{
-	const char *ids[2];
-	uint32_t *g = NULL;
-	size_t l, j, v, n_g = 0, cap_g = 0, i;
-
-	b->off = xcalloc(1, sizeof(*b->off));
-	b->cap_sc = 0;
-	if (strcmp(kind, "links") == 0) {
-		for (l = 0; l < m->n_links; l++) {
-			if (!m->links[l].up)
-				continue;
-			add_link(b, l);
-			ids[0] = m->links[l].id;
-			close_scenario(b, codec_fail_json("links", ids, 1));
-		}
-	} else if (strcmp(kind, "link-pairs") == 0) {
-		for (l = 0; l < m->n_links; l++)
-			for (j = l + 1; m->links[l].up && j < m->n_links; j++) {
-				if (!m->links[j].up)
-					continue;
-				add_link(b, l);
-				add_link(b, j);
-				ids[0] = m->links[l].id;
-				ids[1] = m->links[j].id;
-				close_scenario(b, codec_fail_json("links", ids,
-				    2));
-			}
-	} else if (strcmp(kind, "nodes") == 0) {
-		for (v = 0; v < m->n_nodes; v++) {
-			for (l = 0; l < m->n_links; l++)
-				if (m->links[l].up && (m->links[l].a == v ||
-				    m->links[l].b == v))
-					add_link(b, l);
-			ids[0] = m->nodes[v].id;
-			close_scenario(b, codec_fail_json("nodes", ids, 1));
-		}
-	} else {
-		for (l = 0; l < m->n_links; l++)
-			for (j = 0; m->links[l].up && j < m->links[l].n_srlgs;
-			    j++) {
-				if (n_g == cap_g) {
-					cap_g = 2 * cap_g + 16;
-					g = xreallocarray(g, cap_g, sizeof(*g));
-				}
-				g[n_g++] = m->links[l].srlgs[j];
-			}
-		if (n_g > 0)
-			qsort(g, n_g, sizeof(*g), cmp_u32);
-		for (i = 0; i < n_g; i++) {
-			if (i > 0 && g[i] == g[i - 1])
-				continue;
-			for (l = 0; l < m->n_links; l++)
-				if (m->links[l].up &&
-				    link_in_srlg(&m->links[l], g[i]))
-					add_link(b, l);
-			close_scenario(b, codec_fail_srlg_json(g[i]));
-		}
-		free(g);
-	}
 }
 
 /* ---- running ---- */
@@ -322,45 +188,6 @@ finish(struct sweep *sw)
 	sweep_free(sw);
 }
 
-/* Solves scenario i into sw->all[i]; updates nothing shared. */
-static void
-solve(struct sweep *sw, size_t i, struct plan **pp)
-{
-	const struct published *live = sw->box->pub;
-	struct db_sweep_result *res = &sw->all[i];
-	struct model *m = model_copy(live->model);
-	struct err e = { 0 };
-	struct plan *p = NULL;
-	double t0 = clock_ms();
-	size_t j, k;
-	int r;
-
-	for (j = sw->off[i]; j < sw->off[i + 1]; j++)
-		m->links[sw->links[j]].up = false;
-	if (sw->scale != 1)
-		for (k = 0; k < m->n_demands; k++)
-			m->demands[k].rate_bps *= sw->scale;
-	r = whatif_solve(sw->box->sd, m, sw->time_limit_s, &p, &e);
-	res->idx = (long)i;
-	res->fail_json = xstrdup(sw->fail_json[i]);
-	res->solve_ms = clock_ms() - t0;
-	if (r != 0) {
-		snprintf(res->status, sizeof(res->status), "failed");
-		res->error = xstrdup(e.msg);
-		res->moved_bps = -1;
-	} else {
-		snprintf(res->status, sizeof(res->status), "%s",
-		    plan_status_str(p->status));
-		res->max_util = p->max_util;
-		res->carried_bps = p->carried_bps;
-		res->unserved_bps = p->unserved_bps;
-		res->total_cost = p->total_cost;
-		res->moved_bps = p->moved_bps;
-	}
-	model_free(m);
-	*pp = p;
-}
-
 static void
 run(struct task *t, bool cancelled)
 {
@@ -368,7 +195,6 @@ run(struct task *t, bool cancelled)
 	struct sweep *sw = st->sw;
 	struct sweeps *s = sw->owner;
 	struct plan *p = NULL;
-	size_t a;
 	bool skip, last;
 	double now;
 
@@ -378,7 +204,9 @@ run(struct task *t, bool cancelled)
 	skip = cancelled || sw->cancel;
 	pthread_mutex_unlock(&s->mu);
 	if (!skip)
-		solve(sw, st->idx, &p);
+		sweepset_eval(&sw->set, st->idx, sw->box->pub->model,
+		    sw->box->sd, sw->scale, sw->time_limit_s,
+		    &sw->all[st->idx], &p);
 
 	if (!skip)
 		atomic_fetch_add(&service_stats(s->svc)->sweep_scenarios, 1);
@@ -387,11 +215,7 @@ run(struct task *t, bool cancelled)
 		sw->have[st->idx] = true;
 		sw->done++;
 		sw->pend[sw->n_pend++] = st->idx;
-		for (a = 0; p != NULL && a < p->n_arcs; a++)
-			if (p->arcs[a].load_bps > sw->worst[a]) {
-				sw->worst[a] = p->arcs[a].load_bps;
-				sw->worst_idx[a] = (long)st->idx;
-			}
+		sweepset_worst(sw->worst, sw->worst_idx, p, (long)st->idx);
 	}
 	sw->ended++;
 	last = sw->ended == sw->n;
@@ -425,7 +249,7 @@ sweeps_start(struct sweeps *s, const char *kind, double scale,
 {
 	const struct service_conf *conf = service_conf(s->svc);
 	struct seed_box *box;
-	struct builder b = { 0 };
+	struct sweepset b = { 0 };
 	struct sweep *sw;
 	struct db *db;
 	long total = 0;
@@ -437,7 +261,7 @@ sweeps_start(struct sweeps *s, const char *kind, double scale,
 	if ((box = service_seed_ref(s->svc)) == NULL)
 		return err_set(e, ERR_BUSY, NULL, "no plan has been published "
 		    "yet");
-	if ((r = count(box->pub->model, kind, &total, e)) != 0)
+	if ((r = sweepset_count(box->pub->model, kind, &total, e)) != 0)
 		goto fail;
 	if (total > conf->sweep_max_scenarios) {
 		r = err_set(e, ERR_INVALID, "kind", "a %s sweep here has %ld "
@@ -454,7 +278,7 @@ sweeps_start(struct sweeps *s, const char *kind, double scale,
 		    "sweep %lld is running", (long long)*idp);
 		goto fail;
 	}
-	build(&b, box->pub->model, kind);
+	(void)sweepset_build(box->pub->model, kind, &b, NULL);
 	if ((long)b.n > conf->sweep_max_scenarios) {
 		pthread_mutex_unlock(&s->mu);
 		r = err_set(e, ERR_INVALID, "kind", "a %s sweep here has %zu "
@@ -469,9 +293,7 @@ sweeps_start(struct sweeps *s, const char *kind, double scale,
 	sw->time_limit_s = time_limit_s;
 	sw->box = box;
 	sw->n = b.n;
-	sw->off = b.off;
-	sw->links = b.links;
-	sw->fail_json = b.fail_json;
+	sw->set = b;
 	sw->tasks = xcalloc(b.n + 1, sizeof(*sw->tasks));
 	sw->all = xcalloc(b.n + 1, sizeof(*sw->all));
 	sw->have = xcalloc(b.n + 1, sizeof(*sw->have));
@@ -522,11 +344,7 @@ sweeps_start(struct sweeps *s, const char *kind, double scale,
 			sw->tasks[i].t.run(&sw->tasks[i].t, true);
 	return 0;
 fail_b:
-	for (i = 0; i < b.n; i++)
-		free(b.fail_json[i]);
-	free(b.fail_json);
-	free(b.off);
-	free(b.links);
+	sweepset_clear(&b);
 fail:
 	service_seed_unref(box);
 	return r;

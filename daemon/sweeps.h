@@ -8,15 +8,17 @@
  * A sweep is a family of scenarios against the live plan: each link that
  * is up failing alone, each node, each SRLG in use, or each pair of up
  * links.  sweeps_start() records it in SQLite and queues one task per
- * scenario on the worker pool (behind any what-if).  Each task copies
- * the live model, takes its links down, scales the demands, and solves
- * warm from the live plan's seed.  Results go to SQLite in batches (at
- * most a second apart), so a crash loses at most the last second; the
- * database marks a sweep still "running" at start-up as "interrupted".
- * The task that finishes last writes the report (worst case per link
- * direction over all scenarios, scenarios with unserved traffic) and the
- * final state.  One sweep runs at a time.  Cancelling lets the scenarios
- * in progress end; queued ones are skipped.
+ * scenario on the worker pool (behind any what-if).  The scenarios and
+ * the solve of each come from sweepset.c, which weft-mpisweep shares:
+ * each task copies the live model, takes its links down, scales the
+ * demands, and solves warm from the live plan's seed.  Results go to
+ * SQLite in batches (at most a second apart), so a crash loses at most
+ * the last second; the database marks a sweep still "running" at
+ * start-up as "interrupted".  The task that finishes last writes the
+ * report (worst case per link direction over all scenarios, scenarios
+ * with unserved traffic) and the final state.  One sweep runs at a
+ * time.  Cancelling lets the scenarios in progress end; queued ones are
+ * skipped.
  */
 
 #include <stdbool.h>

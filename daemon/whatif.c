@@ -6,6 +6,7 @@
 #include "whatif.h"
 #include "service.h"
 #include "stats.h"
+#include "sweepset.h"
 #include "workers.h"
 #include "base/log.h"
 #include "base/xalloc.h"
@@ -20,24 +21,6 @@ struct whatif_task {
 	struct stats *stats;	/* the service's */
 };
 
-int
-whatif_solve(const struct engine_seed *sd, const struct model *m,
-    double time_limit_s, struct plan **pp, struct err *e)
-{
-	struct engine_state *st;
-	struct solve_opts o;
-	int r;
-
-	solve_opts_default(&o);
-	o.time_limit_s = time_limit_s;
-	if (m->policy.formulation != FORM_PATH)
-		return engine_solve(m, &o, pp, e);
-	st = engine_state_from_seed(sd);
-	r = engine_solve_warm(&st, m, &o, pp, e);
-	engine_state_free(st);
-	return r;
-}
-
 static void
 run(struct task *t, bool cancelled)
 {
@@ -49,7 +32,7 @@ run(struct task *t, bool cancelled)
 		    "the daemon is stopping");
 		atomic_fetch_add(&wt->stats->whatif[STATS_WHATIF_STOPPED], 1);
 	} else {
-		res->r = whatif_solve(res->box->sd, res->m, wt->time_limit_s,
+		res->r = sweepset_solve(res->box->sd, res->m, wt->time_limit_s,
 		    &res->p, &res->e);
 		if (res->r != 0)
 			log_warn("what-if failed code=%s msg=\"%s\"",

@@ -8,8 +8,9 @@
  * The HTTP thread builds the scenario model (api/, engine/scenario.c),
  * so a bad scenario is refused before anything is queued, then hands it
  * here.  A worker rebuilds the live master from the seed
- * (engine_state_from_seed()) and solves the scenario warm from it; with
- * no seed (the live plan was solved node-arc) it solves from nothing.
+ * (engine_state_from_seed(), in sweepset_solve()) and solves the
+ * scenario warm from it; with no seed (the live plan was solved
+ * node-arc) it solves from nothing.
  * The result goes to the caller's callback on the worker thread; the
  * callee owns it.
  */
@@ -18,7 +19,6 @@
 
 #include "base/err.h"
 
-struct engine_seed;
 struct model;
 struct plan;
 struct seed_box;
@@ -48,12 +48,5 @@ int whatif_submit(struct service *svc, struct seed_box *box,
     whatif_done_fn *done, void *ctx, struct err *e);
 
 void whatif_result_free(struct whatif_result *res);
-
-/*
- * Solves m on the calling thread, warm from sd when given (NULL: from
- * nothing), within time_limit_s (0: none).  As engine_solve().
- */
-int whatif_solve(const struct engine_seed *sd, const struct model *m,
-    double time_limit_s, struct plan **pp, struct err *e);
 
 #endif /* WEFT_DAEMON_WHATIF_H */

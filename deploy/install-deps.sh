@@ -13,6 +13,8 @@ PKGS="$PKGS chromium chromium-driver python3-selenium"  # make check-browser: th
 PKGS="$PKGS libcurl4-openssl-dev groff-base"  # the client build/weft (libcurl); its man page check (groff)
 PKGS="$PKGS prometheus python3-prometheus-client"  # make check-monitoring: a real Prometheus scrapes /metrics (own one on 127.0.0.1), promtool, an OpenMetrics parser
 PKGS="$PKGS clang libclang-rt-14-dev valgrind"  # make fuzz, fuzz-ci (libFuzzer with ASan and UBSan, clang's runtimes); make check-valgrind
+PKGS="$PKGS zlib1g-dev"  # make (weftd, -lz): gzip and deflate replies (api/compress.c)
+PKGS="$PKGS openmpi-bin libopenmpi-dev"  # make mpi, check-mpi, bench: build/weft-mpisweep (mpicc) and mpirun
 case "${1:-}" in --load) PKGS="$PKGS wrk nginx" ;; esac  # make load only (sh deploy/install-deps.sh --load): wrk, and nginx for comparison (the load test runs its own on 127.0.0.1; where systemd runs, Debian also starts the packaged service)
 missing=""
 for p in $PKGS; do

@@ -56,6 +56,7 @@ cmd_fn cmd_sweep_start, cmd_sweep_list, cmd_sweep_cancel,
     cmd_sweep_rm;		/* cmd_sweep.c */
 cmd_fn cmd_sweep_watch;		/* sweep_watch.c */
 cmd_fn cmd_sweep_report;	/* sweep_report.c */
+cmd_fn cmd_snapshot;		/* cmd_snapshot.c */
 cmd_fn cmd_solve;		/* cmd_solve.c (offline) */
 
 /* Writes "weft: <message>\n" to stderr. */

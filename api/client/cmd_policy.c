@@ -21,7 +21,7 @@
 #include "wait.h"
 
 enum { O_OBJECTIVE, O_HEADROOM, O_MATRIX, O_NO_MATRIX, O_FORMULATION,
-	O_KEEP_PATHS, O_WAIT };
+	O_GAP_TARGET, O_KEEP_PATHS, O_WAIT };
 
 static const struct opt_def defs[] = {
 	[O_OBJECTIVE] = { "objective", true },
@@ -29,6 +29,7 @@ static const struct opt_def defs[] = {
 	[O_MATRIX] = { "matrix", true },
 	[O_NO_MATRIX] = { "no-matrix", false },
 	[O_FORMULATION] = { "formulation", true },
+	[O_GAP_TARGET] = { "gap-target", true },
 	[O_KEEP_PATHS] = { "keep-paths", true },
 	[O_WAIT] = { "wait", false },
 	{ NULL, false },
@@ -86,6 +87,7 @@ cmd_policy(const struct cli *c, int argc, char **argv)
 		case O_OBJECTIVE:
 		case O_HEADROOM:
 		case O_FORMULATION:
+		case O_GAP_TARGET:
 			r = opt_member(defs[k].name, v, set);
 			break;
 		case O_MATRIX:

@@ -3,13 +3,16 @@
 
 /*
  * DESIGN
- * GET /v1/plan/routes lists every planned demand with its paths; the
- * command keeps those from SRC to DST (every priority, and a pair the
- * matrix repeats, as often as it appears).  The JSON view is the daemon's
- * document with only those routes, so it has the daemon's shape.
+ * GET /v1/plan/routes?src=SRC&dst=DST lists the planned demands from SRC
+ * to DST with their paths (every priority, and a pair the matrix repeats,
+ * as often as it appears), so only those cross the network however large
+ * the plan; the command filters again, for a daemon that predates the
+ * filters.  The JSON view is the daemon's document with only those
+ * routes, so it has the daemon's shape.
  */
 
 #include <stdio.h>
+#include <stdlib.h>
 #include <string.h>
 
 #include <jansson.h>
@@ -20,6 +23,7 @@
 #include "js.h"
 #include "opt.h"
 #include "table.h"
+#include "../../daemon/base/xalloc.h"
 
 static const struct opt_def defs[] = { { NULL, false } };
 
@@ -68,6 +72,7 @@ cmd_routes(const struct cli *c, int argc, char **argv)
 	struct opts o;
 	const char *v, *ends[2] = { NULL, NULL };
 	json_t *all, *rt, *keep = NULL, *j;
+	char *e1, *e2, *path;
 	size_t i;
 	int k, n = 0, r;
 
@@ -81,7 +86,14 @@ cmd_routes(const struct cli *c, int argc, char **argv)
 	}
 	if (n != 2)
 		return msg_usage("routes needs two node ids, SRC DST");
-	if ((r = fetch_get(c, "/v1/plan/routes", &a)) != RC_OK)
+	e1 = fetch_escape(ends[0]);
+	e2 = fetch_escape(ends[1]);
+	path = xasprintf("/v1/plan/routes?src=%s&dst=%s", e1, e2);
+	free(e1);
+	free(e2);
+	r = fetch_get(c, path, &a);
+	free(path);
+	if (r != RC_OK)
 		goto out;
 	all = js_arr(a.json, "routes");
 	keep = json_array();

@@ -52,7 +52,7 @@ static const struct opt_def defs[] = {
 
 static const char *const formats[] = { "sndlib", "csv" };
 static const char *const objectives[] = { "cost", "balance", "congestion" };
-static const char *const formulations[] = { "path", "arc" };
+static const char *const formulations[] = { "path", "arc", "potential" };
 
 struct job {
 	const char *file;
@@ -95,7 +95,7 @@ args(int argc, char **argv, struct job *jb)
 			    &jb->pol.headroom);
 			break;
 		case O_FORMULATION:
-			if ((r = opt_word("--formulation", v, formulations, 2,
+			if ((r = opt_word("--formulation", v, formulations, 3,
 			    &i)) == 0)
 				r = formulation_parse(formulations[i],
 				    &jb->pol.formulation) == 0 ? 0 : RC_USAGE;

@@ -50,8 +50,8 @@ static const struct command {
 	{ "policy", NULL, cmd_policy,
 	    "[--objective cost|balance|congestion] [--headroom H]\n"
 	    "                [--matrix NAME | --no-matrix] "
-	    "[--formulation path|arc]\n"
-	    "                [--keep-paths yes|no] [--wait]" },
+	    "[--formulation path|arc|potential]\n"
+	    "                [--gap-target G] [--keep-paths yes|no] [--wait]" },
 	{ "whatif", NULL, cmd_whatif,
 	    "[--fail-link ID]... [--fail-node ID]... [--fail-srlg N]...\n"
 	    "                [--scale F] [--matrix NAME] "
@@ -65,9 +65,10 @@ static const struct command {
 	{ "sweep", "list", cmd_sweep_list, "" },
 	{ "sweep", "cancel", cmd_sweep_cancel, "ID" },
 	{ "sweep", "rm", cmd_sweep_rm, "ID" },
+	{ "snapshot", NULL, cmd_snapshot, "[--output FILE]" },
 	{ "solve", NULL, cmd_solve,
 	    "FILE [--format sndlib|csv] [--objective O] [--headroom H]\n"
-	    "                [--formulation path|arc] [--time-limit S] "
+	    "                [--formulation path|arc|potential] [--time-limit S] "
 	    "[--loads [--top N]]" },
 };
 

@@ -13,7 +13,7 @@
 #include "client.h"
 
 static const char *const objectives[] = { "cost", "balance", "congestion" };
-static const char *const formulations[] = { "path", "arc" };
+static const char *const formulations[] = { "path", "arc", "potential" };
 
 /* The request members opt_member() knows. */
 static const struct member {
@@ -25,7 +25,8 @@ static const struct member {
 } members[] = {
 	{ "objective", "objective", objectives, 3, 0, 0 },
 	{ "headroom", "headroom", NULL, 0, 1e-9, 1 },
-	{ "formulation", "formulation", formulations, 2, 0, 0 },
+	{ "formulation", "formulation", formulations, 3, 0, 0 },
+	{ "gap-target", "gap_target", NULL, 0, 0, 0.5 },
 	{ "scale", "scale", NULL, 0, 0, 1e6 },
 	{ "time-limit", "time_limit_s", NULL, 0, 1e-3, 86400 },
 };

@@ -108,10 +108,26 @@ var weftLayout = (function () {
 		    dx = [], dy = [], rand = rng(SEED), i, j, e, a, b, ddx, ddy, d,
 		    f, t, t0, k,
 		    rounds, r, nfree = 0, cx = w / 2, cy = h / 2, ang, len,
-		    anyFixed = false;
+		    anyFixed = false, fx = [], freeIdx = [], fp, q;
+
+		/* Every pair repels with k^2/d.  (Math.sqrt, not Math.hypot:
+		   this runs for every pair in every round, and the distances
+		   are far from overflow.) */
+		function repel(i_, j_) {
+			var ex = x[i_] - x[j_], ey = y[i_] - y[j_],
+			    dd = Math.max(Math.sqrt(ex * ex + ey * ey), 0.01),
+			    ff = k * k / dd;
+			dx[i_] += ex / dd * ff;
+			dy[i_] += ey / dd * ff;
+			dx[j_] -= ex / dd * ff;
+			dy[j_] -= ey / dd * ff;
+		}
 
 		for (i = 0; i < n; i++) {
 			idx[nodes[i].id] = i;
+			fx.push(!!fixed[nodes[i].id]);
+			if (!fx[i])
+				freeIdx.push(i);
 			if (fixed[nodes[i].id]) {
 				x.push(pos[nodes[i].id].x);
 				y.push(pos[nodes[i].id].y);
@@ -140,17 +156,20 @@ var weftLayout = (function () {
 				dx[i] = 0;
 				dy[i] = 0;
 			}
-			for (i = 0; i < n; i++)
-				for (j = i + 1; j < n; j++) {
-					ddx = x[i] - x[j];
-					ddy = y[i] - y[j];
-					d = Math.max(Math.hypot(ddx, ddy), 0.01);
-					f = k * k / d;
-					dx[i] += ddx / d * f;
-					dy[i] += ddy / d * f;
-					dx[j] -= ddx / d * f;
-					dy[j] -= ddy / d * f;
+			/* Nodes with coordinates never move, so the force
+			   between two of them is not computed; a free node
+			   meets the others in the same order either way. */
+			for (i = 0, fp = 0; i < n; i++) {
+				if (!fx[i]) {
+					for (j = i + 1; j < n; j++)
+						repel(i, j);
+					continue;
 				}
+				while (fp < freeIdx.length && freeIdx[fp] <= i)
+					fp++;
+				for (q = fp; q < freeIdx.length; q++)
+					repel(i, freeIdx[q]);
+			}
 			for (e = 0; e < edges.length; e++) {
 				a = idx[edges[e][0]];
 				b = idx[edges[e][1]];

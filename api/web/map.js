@@ -4,14 +4,22 @@
 /*
  * DESIGN
  * Everything comes from this daemon's own API; nothing else is fetched.
- * The live plan is four documents (GET /v1/plan, /v1/plan/loads,
- * /v1/plan/routes and the topology for coordinates), fetched together and
- * fetched again until plan, loads and routes name one plan revision.  What
- * the map and the table show is a "view": the live plan, a what-if answer
+ * What the map and the table show of the live plan comes from GET
+ * /v1/plan and /v1/plan/loads (with /v1/policy for the headroom), fetched
+ * together and again until plan and loads name one plan revision.  The
+ * topology (coordinates, names, SRLGs) is read before the first drawing
+ * and again after each new plan, in the background: the map is relaid out
+ * only when its nodes, coordinates or links changed.  The routes (which
+ * demands cross a link) are read only when the link panel needs them,
+ * once per plan revision.  What the map and the table show is a "view":
+ * the live plan, a what-if answer
  * (POST /v1/whatif; its links[] replace the loads) or a sweep's worst case
  * (its report's links[]).  Every view has the same rows, one per link with
  * both directions, so one drawing routine serves all three and a banner
- * says which one is shown.  New plans arrive through the event stream
+ * says which one is shown.  The map itself is a canvas (canvas.js): a new
+ * plan only recolours it, a pan or zoom only redraws it, one frame per
+ * displayed frame.  The table keeps one row element per link and changes
+ * only the cells whose text changed.  New plans arrive through the event stream
  * (GET /v1/events, event "plan"); when the daemon has no stream (the
  * EventSource fails for good, as on a 404) the page polls GET /v1/plan
  * every POLL_MS instead.  A daemon that wants a bearer token (docs/api.md,
@@ -22,8 +30,9 @@
  * with fetch instead of streaming.  Node positions are kept while the
  * nodes and their coordinates stay the same, so a new plan only recolours
  * the map.
- * For tests, every direction's stroke carries data-link, data-dir and
- * data-util, and window.weftMap exposes the state.
+ * For tests, window.weftMap exposes the state, and weftMap.drawn() what
+ * the last frame of the map drew: every direction with its colour and
+ * utilisation, the crosses, the badges and the nodes.
  */
 
 "use strict";
@@ -32,16 +41,20 @@
 	/* The drawing is W wide; its height follows the map's shape. */
 	var W = 1000, H = 640, H_MIN = 480, H_MAX = 820, MARGIN = 40;
 	var POLL_MS = 3000;
-	var DIR_W = 4;			/* a direction's stroke width, px */
-	var DIR_OFF = 2.6;		/* its offset from the link's axis */
-	var PAIR_GAP = 13;		/* between parallel links of one pair */
+	var PAN_STEP = 40;		/* an arrow key's pan, drawing units */
 	var SVGNS = "http://www.w3.org/2000/svg";
 	var DEMANDS_SHOWN = 40;		/* per direction in the link panel */
 	var TOKEN_KEY = "weft.token";	/* in sessionStorage only */
 
 	var S = {
-		topo: null, policy: null, plan: null, loads: null, routes: null,
-		crossing: {},		/* link id -> {a_to_b: {}, b_to_a: {}} */
+		topo: null, policy: null, plan: null, loads: null,
+		crossing: null,		/* {rev, links: link id -> {a_to_b: {},
+					   b_to_a: {}}, null while asked}
+					   (needRoutes) */
+		tableQueued: false,	/* a drawTable() is due (tableSoon) */
+		topoSeq: 0,		/* the newest topology read */
+		rows: [], rowById: {},	/* the view's rows (rows()) */
+		scene: null,		/* the canvas (canvas.js) */
 		pos: {}, layoutKey: "",
 		mode: "live",		/* "live", "whatif", "sweep" */
 		whatif: null,		/* {req, res} */
@@ -260,11 +273,15 @@
 	}
 
 	function fetchLive(attempt) {
-		return Promise.all([api("GET", "/v1/plan"),
-		    api("GET", "/v1/plan/loads"), api("GET", "/v1/plan/routes"),
-		    api("GET", "/v1/topology"), api("GET", "/v1/policy")])
-		    .then(function (rs) {
-			var plan = rs[0], loads = rs[1], routes = rs[2];
+		var reads = [api("GET", "/v1/plan"), api("GET", "/v1/plan/loads"),
+		    api("GET", "/v1/policy")];
+
+		/* The first drawing needs the coordinates; later ones do not
+		   wait for them (refreshTopology). */
+		if (!S.topo)
+			reads.push(api("GET", "/v1/topology"));
+		return Promise.all(reads).then(function (rs) {
+			var plan = rs[0], loads = rs[1];
 			if (plan.status === 503) {
 				$("plan-status").textContent = "No plan has been " +
 				    "published yet; waiting\u2026";
@@ -277,17 +294,18 @@
 			for (var i = 0; i < rs.length; i++)
 				if (rs[i].status !== 200)
 					throw errText(rs[i]);
-			if ((plan.body.revision !== loads.body.revision ||
-			    plan.body.revision !== routes.body.revision) &&
-			    attempt < 5)
+			if (plan.body.revision !== loads.body.revision && attempt < 5)
 				return fetchLive(attempt + 1);
 			message("");
 			S.plan = plan.body;
 			S.loads = loads.body;
-			S.routes = routes.body;
-			S.topo = rs[3].body;
-			S.policy = rs[4].body;
-			indexRoutes();
+			S.policy = rs[2].body;
+			if (rs[3])
+				S.topo = rs[3].body;
+			else
+				refreshTopology();
+			if (S.crossing && S.crossing.rev !== S.plan.revision)
+				S.crossing = null;
 			fillWhatifForm();
 			render();
 			document.body.dataset.revision = String(S.plan.revision);
@@ -295,33 +313,81 @@
 		});
 	}
 
-	/* Which demands cross which link, in which direction, at what rate. */
-	function indexRoutes() {
-		var idx = dict(), links = dict(), i, j, k, r, p, l, dir, key, e;
+	/* Reads the topology again; draws again only if what the map or the
+	   link panel shows of it changed. */
+	function refreshTopology() {
+		var seq = ++S.topoSeq;
+		api("GET", "/v1/topology").then(function (r) {
+			var old = S.topo;
+			if (r.status !== 200 || seq !== S.topoSeq)
+				return;
+			S.topo = r.body;
+			if (JSON.stringify(old) !== JSON.stringify(S.topo)) {
+				fillWhatifForm();
+				render();
+			}
+		}, function () {});
+	}
 
-		S.loads.links.forEach(function (l) {
-			links[l.id] = l;
+	/*
+	 * The demands crossing link id in the shown plan, read when the link
+	 * panel first needs them: GET /v1/plan/routes?link=ID returns only
+	 * those demands, so a full matrix (hundreds of thousands of demands)
+	 * is never fetched whole.  Kept per link for the plan revision in
+	 * S.crossing ({rev, links: id -> index, or null while asked}).
+	 */
+	function needRoutes(id) {
+		var rev = S.plan ? S.plan.revision : -1;
+
+		if (!S.crossing || S.crossing.rev !== rev)
+			S.crossing = { rev: rev, links: dict() };
+		if (S.crossing.links[id] !== undefined)
+			return;
+		S.crossing.links[id] = null;
+		api("GET", "/v1/plan/routes?link=" + encodeURIComponent(id)).then(
+		    function (r) {
+			var c = S.crossing;
+			if (!c || c.links[id] !== null)
+				return;
+			if (r.status !== 200 || r.body.revision !== c.rev) {
+				/* A newer plan: loadLive follows it. */
+				delete c.links[id];
+				return;
+			}
+			c.links[id] = indexRoutes(id, r.body.routes);
+			showInfo(S.selected || S.hovered);
+		}, function () {
+			if (S.crossing && S.crossing.links[id] === null)
+				delete S.crossing.links[id];
 		});
-		for (i = 0; i < S.routes.routes.length; i++) {
-			r = S.routes.routes[i];
+	}
+
+	/* Which of routes cross link id, in which direction, at what rate. */
+	function indexRoutes(id, routes) {
+		var idx = { a_to_b: dict(), b_to_a: dict() }, l = null, i, j, k,
+		    r, p, dir, key, e;
+
+		S.loads.links.forEach(function (x) {
+			if (x.id === id)
+				l = x;
+		});
+		for (i = 0; l && i < routes.length; i++) {
+			r = routes[i];
 			for (j = 0; j < r.paths.length; j++) {
 				p = r.paths[j];
 				for (k = 0; k < p.links.length; k++) {
-					l = links[p.links[k]];
-					if (!l)
+					if (p.links[k] !== id)
 						continue;
 					dir = p.nodes[k] === l.a ? "a_to_b" : "b_to_a";
-					if (!idx[l.id])
-						idx[l.id] = { a_to_b: dict(), b_to_a: dict() };
 					key = String(i);
-					e = idx[l.id][dir][key];
+					e = idx[dir][key];
 					if (!e)
-						e = idx[l.id][dir][key] = { route: r, rate: 0 };
+						e = idx[dir][key] = { route: r, rate: 0 };
 					e.rate += p.rate_bps;
 				}
 			}
 		}
-		S.crossing = idx;
+		return idx;
 	}
 
 	function headroom() {
@@ -408,11 +474,16 @@
 	function render() {
 		if (!S.loads)
 			return;
-		var rs = rows();
+		var rs = rows(), byId = dict();
+		rs.forEach(function (r) {
+			byId[r.id] = r;
+		});
+		S.rows = rs;
+		S.rowById = byId;
 		layout();
 		drawMap(rs);
 		drawLegend();
-		drawTable(rs);
+		tableSoon();
 		drawStatus();
 		drawBanner();
 		showInfo(S.selected || S.hovered);
@@ -445,136 +516,26 @@
 		a = weftLayout.aspect(nodes);
 		H = a === null ? 640 : Math.round(Math.min(H_MAX, Math.max(H_MIN,
 		    (W - 2 * MARGIN) * a + 2 * MARGIN)));
-		$("map").setAttribute("viewBox", "0 0 " + W + " " + H);
-		$("map").style.aspectRatio = W + " / " + H;
 		S.pos = weftLayout.place(nodes, edges, W, H, MARGIN);
+		S.scene.setSize(W, H);
+		S.scene.setLayout(nodes, S.pos);
 	}
 
-	/* A layout position on the screen, after zoom and pan. */
-	function at(id) {
-		var p = S.pos[id] || { x: W / 2, y: H / 2 };
-		return { x: p.x * S.view.k + S.view.x, y: p.y * S.view.k + S.view.y };
-	}
-
+	/* The map: colours and marks of the rows; the canvas draws them in
+	   its next frame. */
 	function drawMap(rs) {
-		var m = $("map"), gl, gn, pairs = dict(), slot = dict();
-
-		while (m.firstChild)
-			m.removeChild(m.firstChild);
-		if (rs.length === 0 && (!S.nodes || S.nodes.length === 0)) {
-			svg("text", { x: W / 2, y: H / 2, "text-anchor": "middle",
-			    "class": "empty" }, m).textContent =
-			    "The topology is empty.";
-			return;
-		}
-		/* Parallel links of one pair get side-by-side slots. */
-		rs.forEach(function (r) {
-			var k = r.a < r.b ? r.a + "\u0000" + r.b : r.b + "\u0000" + r.a;
-			slot[r.id] = pairs[k] = (pairs[k] || 0) + 1;
-			slot[r.id]--;
-			r.pairKey = k;
-		});
-		gl = svg("g", { "class": "links" }, m);
-		rs.forEach(function (r) {
-			drawLink(gl, r, slot[r.id], pairs[r.pairKey]);
-		});
-		gn = svg("g", { "class": "nodes" }, m);
-		(S.nodes || []).forEach(function (n) {
-			var p = at(n.id), g = svg("g", { "class": "node",
-			    "data-node": n.id }, gn);
-			svg("title", {}, g).textContent = n.id +
-			    (n.name ? " (" + n.name + ")" : "");
-			svg("circle", { cx: p.x, cy: p.y, r: 4.5 }, g);
-			svg("text", { x: p.x + 6, y: p.y - 6 }, g).textContent = n.id;
-		});
+		var empty = rs.length === 0 && (!S.nodes || S.nodes.length === 0);
+		S.scene.setBackground(getComputedStyle($("map")).backgroundColor);
+		S.scene.setRows(rs, S.selected, empty ? "The topology is empty." :
+		    "");
 	}
 
-	function drawLink(parent, r, k, m) {
-		var p = at(r.a), q = at(r.b), dx = q.x - p.x, dy = q.y - p.y,
-		    len = Math.hypot(dx, dy) || 1, ux = dx / len, uy = dy / len,
-		    nx = -uy, ny = ux, off = (k - (m - 1) / 2) * PAIR_GAP,
-		    g, hit, sel = S.selected === r.id;
-
-		/* The link's axis, moved sideways for parallel links. */
-		p = { x: p.x + nx * off, y: p.y + ny * off };
-		q = { x: q.x + nx * off, y: q.y + ny * off };
-		g = svg("g", { "class": "link" + (r.down ? " down" : "") +
-		    (sel ? " selected" : ""), "data-link": r.id }, parent);
-		if (sel)
-			svg("line", { "class": "halo", x1: p.x, y1: p.y, x2: q.x,
-			    y2: q.y, "stroke-width": 2 * DIR_OFF + DIR_W + 14 }, g);
-		svg("line", { "class": "casing", x1: p.x, y1: p.y, x2: q.x,
-		    y2: q.y, "stroke-width": 2 * DIR_OFF + DIR_W + (sel ? 7 : 2) },
-		    g);
-		/* Each direction on the right-hand side of its travel. */
-		drawDir(g, r, "a_to_b", r.ab, p, q, ux, uy, nx, ny);
-		drawDir(g, r, "b_to_a", r.ba, q, p, -ux, -uy, -nx, -ny);
-		if (r.down) {
-			var cx = (p.x + q.x) / 2, cy = (p.y + q.y) / 2, s = 7;
-			var c = svg("g", { "class": "cross", "data-link": r.id }, g);
-			svg("line", { x1: cx - s, y1: cy - s, x2: cx + s, y2: cy + s },
-			    c);
-			svg("line", { x1: cx - s, y1: cy + s, x2: cx + s, y2: cy - s },
-			    c);
-		}
-		hit = svg("line", { "class": "hit", x1: p.x, y1: p.y, x2: q.x,
-		    y2: q.y, "data-hit": r.id }, g);
-		svg("title", {}, hit).textContent = r.id + ": " + r.a + " \u2194 " +
-		    r.b + (r.down ? " (down)" : "") + "\n" + r.a + " \u2192 " + r.b +
+	/* The text of a link's tooltip on the map. */
+	function linkTitle(r) {
+		return r.id + ": " + r.a + " \u2194 " + r.b +
+		    (r.down ? " (down)" : "") + "\n" + r.a + " \u2192 " + r.b +
 		    " " + fmtPct(r.ab.util) + ", " + r.b + " \u2192 " + r.a + " " +
 		    fmtPct(r.ba.util);
-		hit.addEventListener("mouseenter", function () {
-			S.hovered = r.id;
-			if (!S.selected)
-				showInfo(r.id);
-		});
-		hit.addEventListener("mouseleave", function () {
-			S.hovered = null;
-		});
-		hit.addEventListener("click", function (ev) {
-			ev.stopPropagation();
-			if (ev.shiftKey) {
-				toggleFail(r.id);
-				return;
-			}
-			select(S.selected === r.id ? null : r.id);
-		});
-	}
-
-	function drawDir(g, r, dir, d, p, q, ux, uy, nx, ny) {
-		var x1 = p.x + nx * DIR_OFF, y1 = p.y + ny * DIR_OFF,
-		    x2 = q.x + nx * DIR_OFF, y2 = q.y + ny * DIR_OFF,
-		    colour = r.down ? weftScale.DOWN : weftScale.css(d.util),
-		    len = Math.hypot(x2 - x1, y2 - y1), mx, my, a;
-
-		svg("line", { "class": "dir" + (r.down ? " down" : "") +
-		    (d.over ? " over" : ""), x1: x1, y1: y1, x2: x2, y2: y2,
-		    stroke: colour, "stroke-width": DIR_W, "data-link": r.id,
-		    "data-dir": dir, "data-util": String(d.util) }, g);
-		if (r.down)
-			return;
-		/* A small arrow past the middle shows the way. */
-		if (len >= 24) {
-			mx = x1 + (x2 - x1) * 0.58;
-			my = y1 + (y2 - y1) * 0.58;
-			a = [[mx + ux * 3.5, my + uy * 3.5],
-			    [mx - ux * 2.5 + nx * 1.7, my - uy * 2.5 + ny * 1.7],
-			    [mx - ux * 2.5 - nx * 1.7, my - uy * 2.5 - ny * 1.7]];
-			svg("polygon", { "class": "arrow", points: a.map(
-			    function (v) {
-				return v[0].toFixed(2) + "," + v[1].toFixed(2);
-			}).join(" "), fill: weftScale.ink(d.util) }, g);
-		}
-		if (d.over) {
-			/* An "!" badge beside the stroke: full by the policy. */
-			var b = svg("g", { "class": "over-mark", "data-link": r.id,
-			    "data-dir": dir }, g);
-			var bx = x1 + (x2 - x1) * 0.38 + nx * 9,
-			    by = y1 + (y2 - y1) * 0.38 + ny * 9;
-			svg("circle", { cx: bx, cy: by, r: 6.5 }, b);
-			svg("text", { x: bx, y: by + 3.5, "text-anchor": "middle" },
-			    b).textContent = "!";
-		}
 	}
 
 	function drawLegend() {
@@ -685,34 +646,92 @@
 		tr.appendChild(td);
 	}
 
+	/*
+	 * The table after the map: its cells and their layout cost more than
+	 * a frame of the map on a large network, so the map's new colours
+	 * reach the screen first and the table follows in a task of its own.
+	 * body[data-table] names the plan revision and view it shows.
+	 */
+	function tableSoon() {
+		if (S.tableQueued)
+			return;
+		S.tableQueued = true;
+		requestAnimationFrame(function () {
+			setTimeout(function () {
+				S.tableQueued = false;
+				drawTable(S.rows);
+			}, 0);
+		});
+	}
+
+	/* A row's cells, anew (the row's text changed). */
+	function fillRow(tr, r) {
+		while (tr.firstChild)
+			tr.removeChild(tr.firstChild);
+		tr.appendChild(el("td", {}, r.id));
+		tr.appendChild(el("td", {}, r.a));
+		tr.appendChild(el("td", {}, r.b));
+		tr.appendChild(el("td", {}, r.state));
+		tr.appendChild(el("td", { "class": "num" }, fmtRate(r.capacity)));
+		tr.appendChild(el("td", { "class": "num" }, fmtRate(r.ab_load)));
+		utilCell(tr, r.ab_util, r.ab.over);
+		tr.appendChild(el("td", { "class": "num" }, fmtRate(r.ba_load)));
+		utilCell(tr, r.ba_util, r.ba.over);
+		tr.appendChild(el("td", { "class": "num maxu", "data-value":
+		    String(r.max_util) }, fmtPct(r.max_util)));
+	}
+
+	/*
+	 * The table: one row element per link, kept from one drawing to the
+	 * next; a row's cells are made again only when its text changed, and
+	 * the rows are moved only when the order changed.
+	 */
 	function drawTable(rs) {
-		var tb = $("links-table").tBodies[0];
+		var tb = $("links-table").tBodies[0], keep = S.tableRows || dict(),
+		    next = dict(), order, same, frag, id;
 
 		rs = rs.slice().sort(cmpRows);
-		while (tb.firstChild)
-			tb.removeChild(tb.firstChild);
-		rs.forEach(function (r) {
-			var tr = el("tr", { "data-link": r.id, "class": (r.down ?
-			    "down " : "") + (r.over ? "over " : "") +
-			    (S.selected === r.id ? "selected" : "") }), td;
-			tr.appendChild(el("td", {}, r.id));
-			tr.appendChild(el("td", {}, r.a));
-			tr.appendChild(el("td", {}, r.b));
-			tr.appendChild(el("td", {}, r.state));
-			tr.appendChild(el("td", { "class": "num" },
-			    fmtRate(r.capacity)));
-			tr.appendChild(el("td", { "class": "num" }, fmtRate(r.ab_load)));
-			utilCell(tr, r.ab_util, r.ab.over);
-			tr.appendChild(el("td", { "class": "num" }, fmtRate(r.ba_load)));
-			utilCell(tr, r.ba_util, r.ba.over);
-			td = el("td", { "class": "num maxu", "data-value":
-			    String(r.max_util) }, fmtPct(r.max_util));
-			tr.appendChild(td);
-			tr.addEventListener("click", function () {
-				select(S.selected === r.id ? null : r.id);
-			});
-			tb.appendChild(tr);
+		order = rs.map(function (r) {
+			return r.id;
 		});
+		rs.forEach(function (r) {
+			var t = keep[r.id], sig = [r.a, r.b, r.state, r.capacity,
+			    r.ab_load, r.ab_util, r.ab.over, r.ba_load, r.ba_util,
+			    r.ba.over, r.max_util].join("\u0000"), cls;
+			if (!t) {
+				t = { tr: el("tr", { "data-link": r.id }), sig: null };
+				t.tr.addEventListener("click", function () {
+					select(S.selected === r.id ? null : r.id);
+				});
+			}
+			if (t.sig !== sig) {
+				fillRow(t.tr, r);
+				t.sig = sig;
+			}
+			cls = ((r.down ? "down " : "") + (r.over ? "over " : "") +
+			    (S.selected === r.id ? "selected" : "")).trim();
+			if (t.tr.getAttribute("class") !== cls)
+				t.tr.setAttribute("class", cls);
+			next[r.id] = t;
+		});
+		for (id in keep)
+			if (!next[id] && keep[id].tr.parentNode === tb)
+				tb.removeChild(keep[id].tr);
+		same = S.tableOrder && S.tableOrder.length === order.length &&
+		    order.every(function (x, i) {
+			return S.tableOrder[i] === x;
+		});
+		if (!same) {
+			frag = document.createDocumentFragment();
+			order.forEach(function (x) {
+				frag.appendChild(next[x].tr);
+			});
+			tb.appendChild(frag);
+		}
+		S.tableRows = next;
+		S.tableOrder = order;
+		document.body.dataset.table = (S.plan ? S.plan.revision : "") +
+		    " " + S.mode;
 		Array.prototype.forEach.call($("links-table").tHead.rows[0].cells,
 		    function (th) {
 			if (th.dataset.key === S.sortKey)
@@ -774,18 +793,32 @@
 
 	/* ---- the link panel ---- */
 
+	/* Pins link id (or none) in the panel, the map and the table. */
 	function select(id) {
+		var old = S.selected, t = S.tableRows || dict();
 		S.selected = id;
-		render();
+		S.scene.setSelected(id);
+		if (old && t[old])
+			t[old].tr.classList.remove("selected");
+		if (id && t[id])
+			t[id].tr.classList.add("selected");
+		showInfo(id || S.hovered);
 	}
 
 	function crossingList(id, dir, from, to) {
-		var c = S.crossing[id], list = [], ul, k,
+		var rev = S.plan ? S.plan.revision : -1,
+		    c = S.crossing && S.crossing.rev === rev ?
+		    S.crossing.links[id] : undefined, list = [], ul, k,
 		    frag = document.createDocumentFragment();
 		frag.appendChild(el("h3", {}, "Demands " + from + " \u2192 " + to));
-		if (c)
-			for (k in c[dir])
-				list.push(c[dir][k]);
+		if (!c) {
+			needRoutes(id);
+			frag.appendChild(el("p", { "class": "muted" },
+			    "reading the routes\u2026"));
+			return frag;
+		}
+		for (k in c[dir])
+			list.push(c[dir][k]);
 		list.sort(function (x, y) {
 			return y.rate - x.rate;
 		});
@@ -813,9 +846,7 @@
 
 		while (body.firstChild)
 			body.removeChild(body.firstChild);
-		r = id ? rows().filter(function (x) {
-			return x.id === id;
-		})[0] : null;
+		r = id ? S.rowById[id] : null;
 		if (!r) {
 			body.appendChild(el("p", { "class": "muted" }, "Hover or " +
 			    "click a link on the map or in the table."));
@@ -865,32 +896,52 @@
 
 	/* ---- the what-if form ---- */
 
-	function fillWhatifForm() {
-		var ls = $("wf-links"), ns = $("wf-nodes"), keepL = dict(),
-		    keepN = dict();
+	/* The options of a select list: texts[i] for value values[i],
+	   made again only when they changed; the selection is kept. */
+	function fillSelect(sel, values, texts) {
+		var sig = JSON.stringify([values, texts]), keep = dict(), frag, i,
+		    o, opts = sel.options;
+		if (sel.dataset.sig === sig)
+			return;
+		if (opts.length === values.length && values.every(function (v, j) {
+			return opts[j].value === v;
+		})) {
+			/* The same options: only their texts change (a link's
+			   state). */
+			for (i = 0; i < values.length; i++)
+				if (opts[i].textContent !== texts[i])
+					opts[i].textContent = texts[i];
+			sel.dataset.sig = sig;
+			return;
+		}
+		Array.prototype.forEach.call(sel.selectedOptions, function (x) {
+			keep[x.value] = true;
+		});
+		frag = document.createDocumentFragment();
+		for (i = 0; i < values.length; i++) {
+			o = el("option", { value: values[i] }, texts[i]);
+			o.selected = !!keep[values[i]];
+			frag.appendChild(o);
+		}
+		while (sel.firstChild)
+			sel.removeChild(sel.firstChild);
+		sel.appendChild(frag);
+		sel.dataset.sig = sig;
+	}
 
-		Array.prototype.forEach.call(ls.selectedOptions, function (o) {
-			keepL[o.value] = true;
-		});
-		Array.prototype.forEach.call(ns.selectedOptions, function (o) {
-			keepN[o.value] = true;
-		});
-		while (ls.firstChild)
-			ls.removeChild(ls.firstChild);
-		while (ns.firstChild)
-			ns.removeChild(ns.firstChild);
-		S.loads.links.forEach(function (l) {
-			var o = el("option", { value: l.id }, l.id + " (" + l.a +
-			    " \u2194 " + l.b + ")" + (l.state !== "up" ? ", down" : ""));
-			o.selected = !!keepL[l.id];
-			ls.appendChild(o);
-		});
-		(S.topo ? S.topo.nodes : []).forEach(function (n) {
-			var o = el("option", { value: n.id }, n.id +
-			    (n.name ? " (" + n.name + ")" : ""));
-			o.selected = !!keepN[n.id];
-			ns.appendChild(o);
-		});
+	function fillWhatifForm() {
+		var nodes = S.topo ? S.topo.nodes : [];
+		fillSelect($("wf-links"), S.loads.links.map(function (l) {
+			return l.id;
+		}), S.loads.links.map(function (l) {
+			return l.id + " (" + l.a + " \u2194 " + l.b + ")" +
+			    (l.state !== "up" ? ", down" : "");
+		}));
+		fillSelect($("wf-nodes"), nodes.map(function (n) {
+			return n.id;
+		}), nodes.map(function (n) {
+			return n.id + (n.name ? " (" + n.name + ")" : "");
+		}));
 	}
 
 	function toggleFail(id) {
@@ -1138,6 +1189,7 @@
 		});
 		es.addEventListener("plan", function (ev) {
 			var d = eventData(ev);
+			setLive("events", "live: event stream");
 			if (!S.plan || !d || d.revision !== S.plan.revision)
 				loadLive();
 		});
@@ -1188,55 +1240,130 @@
 
 	/* ---- zoom and pan ---- */
 
-	function svgPoint(ev) {
+	/* A pointer event's place in screen units of the drawing. */
+	function mapPoint(ev) {
 		var m = $("map"), r = m.getBoundingClientRect();
 		return { x: (ev.clientX - r.left) * W / r.width,
 		    y: (ev.clientY - r.top) * H / r.height };
 	}
 
-	function setupZoom() {
-		var m = $("map"), drag = null, queued = false;
+	/* moving: part of a drag, which ends with a setView() without. */
+	function setView(v, moving) {
+		S.view = v;
+		S.scene.setView(v, moving);
+	}
 
-		function redraw() {
-			if (queued)
-				return;
-			queued = true;
-			requestAnimationFrame(function () {
-				queued = false;
-				if (S.loads)
-					drawMap(rows());
-			});
+	/* Zoom by factor f about the screen point p. */
+	function zoomAt(p, f) {
+		var k0 = S.view.k, k = Math.min(20, Math.max(0.5, k0 * f));
+		setView({ k: k, x: p.x - (p.x - S.view.x) * k / k0,
+		    y: p.y - (p.y - S.view.y) * k / k0 });
+	}
+
+	/* The pointer (at p) over link id (or none): tooltip, cursor, panel.
+	   Off the links, a node's mark gets its id and name as tooltip. */
+	function hover(id, p) {
+		var m = $("map"), r = id ? S.rowById[id] : null, n, t;
+		if (!id && p && (n = S.scene.hitNode(p.x, p.y)) !== null) {
+			t = S.topo ? S.topo.nodes.filter(function (x) {
+				return x.id === n;
+			})[0] : null;
+			m.title = n + (t && t.name ? " (" + t.name + ")" : "");
+		} else if (!id) {
+			m.title = "";
 		}
+		if (id === S.hovered)
+			return;
+		S.hovered = id;
+		if (r)
+			m.title = linkTitle(r);
+		m.style.cursor = id ? "pointer" : "";
+		if (id && !S.selected)
+			showInfo(id);
+	}
+
+	/*
+	 * Pointer and keys on the map.  A pan or zoom changes only the view;
+	 * the canvas draws it in its next frame, however many events came.
+	 * A press on a link does not start a pan; a click on one pins it
+	 * (shift-click adds it to the what-if); a drag that moved ends in no
+	 * click.
+	 */
+	function setupZoom() {
+		var m = $("map"), drag = null, moved = false;
+
 		m.addEventListener("wheel", function (ev) {
-			var p = svgPoint(ev), k0 = S.view.k,
-			    k = Math.min(20, Math.max(0.5, k0 * Math.exp(-ev.deltaY *
-			    0.0015)));
 			ev.preventDefault();
-			S.view.x = p.x - (p.x - S.view.x) * k / k0;
-			S.view.y = p.y - (p.y - S.view.y) * k / k0;
-			S.view.k = k;
-			redraw();
+			zoomAt(mapPoint(ev), Math.exp(-ev.deltaY * 0.0015));
 		}, { passive: false });
 		m.addEventListener("pointerdown", function (ev) {
-			if (ev.target.classList.contains("hit"))
+			var p = mapPoint(ev);
+			moved = false;
+			if (S.scene.hit(p.x, p.y) !== null)
 				return;
-			drag = { p: svgPoint(ev), x: S.view.x, y: S.view.y };
-			m.setPointerCapture(ev.pointerId);
+			drag = { p: p, x: S.view.x, y: S.view.y };
+			try {
+				m.setPointerCapture(ev.pointerId);
+			} catch (e) {
+				/* A pointer the browser no longer knows: no capture. */
+			}
 		});
 		m.addEventListener("pointermove", function (ev) {
+			var p = mapPoint(ev);
+			if (!drag) {
+				hover(S.scene.hit(p.x, p.y), p);
+				return;
+			}
+			if (Math.abs(p.x - drag.p.x) + Math.abs(p.y - drag.p.y) > 3)
+				moved = true;
+			setView({ k: S.view.k, x: drag.x + p.x - drag.p.x,
+			    y: drag.y + p.y - drag.p.y }, true);
+		});
+		function endDrag() {
 			if (!drag)
 				return;
-			var p = svgPoint(ev);
-			S.view.x = drag.x + p.x - drag.p.x;
-			S.view.y = drag.y + p.y - drag.p.y;
-			redraw();
-		});
-		m.addEventListener("pointerup", function () {
 			drag = null;
+			setView(S.view);
+		}
+		m.addEventListener("pointerup", endDrag);
+		m.addEventListener("pointercancel", endDrag);
+		m.addEventListener("pointerleave", function () {
+			if (!drag)
+				hover(null);
+		});
+		m.addEventListener("click", function (ev) {
+			var p = mapPoint(ev), id;
+			if (moved)
+				return;
+			id = S.scene.hit(p.x, p.y);
+			if (id === null)
+				return;
+			if (ev.shiftKey) {
+				toggleFail(id);
+				return;
+			}
+			select(S.selected === id ? null : id);
 		});
 		m.addEventListener("dblclick", function () {
-			S.view = { k: 1, x: 0, y: 0 };
-			redraw();
+			setView({ k: 1, x: 0, y: 0 });
+		});
+		/* Arrow keys pan, + and - zoom about the middle, 0 resets. */
+		m.addEventListener("keydown", function (ev) {
+			var d = { ArrowLeft: [1, 0], ArrowRight: [-1, 0],
+			    ArrowUp: [0, 1], ArrowDown: [0, -1] }[ev.key];
+			if (d) {
+				setView({ k: S.view.k, x: S.view.x + d[0] * PAN_STEP,
+				    y: S.view.y + d[1] * PAN_STEP });
+			} else if (ev.key === "+" || ev.key === "=") {
+				zoomAt({ x: W / 2, y: H / 2 }, 1.25);
+			} else if (ev.key === "-") {
+				zoomAt({ x: W / 2, y: H / 2 }, 0.8);
+			} else if (ev.key === "0") {
+				setView({ k: 1, x: 0, y: 0 });
+			} else {
+				return;
+			}
+			ev.preventDefault();
 		});
 	}
 
@@ -1253,7 +1380,7 @@
 					S.sortAsc = th.dataset.type === "str";
 				}
 				if (S.loads)
-					drawTable(rows());
+					drawTable(S.rows);
 			});
 		});
 		$("whatif-form").addEventListener("submit", runWhatif);
@@ -1280,6 +1407,9 @@
 			S.mode = "sweep";
 			render();
 		});
+		S.scene = weftCanvas.create($("map"));
+		window.weftMap.drawn = S.scene.drawn;
+		window.weftMap.hit = S.scene.hit;
 		setupZoom();
 		loadToken();
 		loadLive();

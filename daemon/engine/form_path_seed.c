@@ -58,6 +58,7 @@ state_copy(const struct engine_state *st)
 
 	*c = *st;
 	c->lp = NULL;
+	c->pot = NULL;		/* the potential method's flows stay behind */
 	c->m = NULL;
 	c->o = NULL;
 	c->p = NULL;

@@ -9,10 +9,17 @@ a fifth of its demands so that the plan fits, under a balance policy with
 one link down, and drives Debian's chromium headless through chromium-driver
 and python3-selenium.
 
+The map is a canvas: the page reports what its last frame drew
+(window.weftMap.drawn(): every direction with its colour, the crosses, the
+badges, the nodes), and the canvas's pixels show what was painted.
+
 What the checks compare with, outside the page's own code:
 - colours: the scale's stops as docs/api.md ("Web page") documents them,
   interpolated here by this file's own code (expected_rgb), against the
-  colour the browser computed for each stroke (getComputedStyle);
+  colour the page drew each stroke with, and against the canvas's pixels
+  at the middle of every stroke no other mark covers
+  (CanvasRenderingContext2D.getImageData; at least PIXELS_LEAST of them,
+  since crossing strokes may cover a middle);
 - loads, utilisations and demands: the daemon's JSON (GET /v1/plan/loads,
   /v1/plan/routes, POST /v1/whatif, GET /v1/sweeps/{id}) read over HTTP by
   this test;
@@ -20,8 +27,16 @@ What the checks compare with, outside the page's own code:
 - report.svg: parsed with xml.etree (the XML 1.0 parser of the standard
   library) and checked against the report JSON and the chart's own axis
   ticks, as a reader of the chart would measure it.
+- a continental network (test_kdl_map): the Kdl topology with the seeded
+  traffic of tests/bench/synth.py in a daemon of its own: every node and
+  link direction drawn, a pan by real mouse input moves every node by the
+  drag, the keyboard pans, a link taken down recolours the map to the new
+  GET /v1/plan/loads.  Its timings (first drawing, pan frames, recolour,
+  long tasks from PerformanceObserver) go to build/artifacts/kdl-timings.json
+  and are printed, never asserted.
 Screenshots (PNG) go to build/artifacts/.  Every wait is bounded and the
-whole run is bounded by TOTAL_S.
+whole run is bounded by TOTAL_S.  Case names as arguments run only those
+cases (map_test.py live_map kdl_map).
 """
 import base64
 import functools
@@ -53,6 +68,8 @@ INSTANCE = os.path.join(ROOT, "tests", "data", "sndlib", "germany50.txt")
 HEADROOM = 0.9
 DEMAND_SCALE = 0.2              # a fifth of the demands: the plan fits
 WHATIF_SCALE = 2                # and a what-if where it does not
+PIXELS_LEAST = 0.5              # stroke middles that must show their colour
+STROKE_LEAST = 60               # of strokes this long at least (screen units)
 
 # ---------------------------------------------------------------------------
 # The utilisation scale, from the stops documented in docs/api.md: sRGB
@@ -82,6 +99,8 @@ def expected_rgb(u):
 
 
 def parse_css_rgb(s):
+    if re.fullmatch(r"#[0-9a-fA-F]{6}", s.strip()):
+        return hex_rgb(s.strip()[1:])
     m = re.fullmatch(r"rgb\((\d+), (\d+), (\d+)\)", s.strip())
     if not m:
         raise AssertionError("not an rgb() colour: %r" % s)
@@ -126,27 +145,74 @@ def page_state():
               " document.body.dataset.mode, document.body.dataset.live]")
 
 
+def settled():
+    """Waits until the map has drawn what the page last gave it: the page
+    asks for one animation frame per change, so two frames suffice."""
+    B.execute_async_script("var done = arguments[arguments.length - 1];"
+                           "requestAnimationFrame(() => requestAnimationFrame(() => done(1)));")
+
+
+def drawn():
+    """What the map's last frame drew, as the page reports it
+    (window.weftMap.drawn(), api/web/canvas.js)."""
+    settled()
+    d = js("return window.weftMap.drawn();")
+    check(d is not None, "the map has drawn no frame")
+    return d
+
+
 def drawn_dirs():
     """Every direction stroke on the map: (link, dir) -> (rgb, classes, util)."""
-    rows = js("""return Array.from(document.querySelectorAll('#map line.dir')).map(
-        e => [e.dataset.link, e.dataset.dir, getComputedStyle(e).stroke,
-              e.getAttribute('class'), e.dataset.util]);""")
     out = {}
-    for link, d, stroke, cls, util in rows:
+    for link, d, colour, util, down, over in (x[:6] for x in drawn()["dirs"]):
         check((link, d) not in out, "direction %s %s drawn twice" % (link, d))
-        out[(link, d)] = (parse_css_rgb(stroke), cls.split(), util)
+        cls = ["dir"] + (["down"] if down else []) + (["over"] if over else [])
+        out[(link, d)] = (parse_css_rgb(colour), cls, util)
     return out
 
 
 def over_marks():
-    return set(tuple(x) for x in js(
-        "return Array.from(document.querySelectorAll('#map .over-mark[data-link]'))"
-        ".map(e => [e.dataset.link, e.dataset.dir]);"))
+    return set(tuple(x) for x in drawn()["over"])
 
 
 def crosses():
-    return set(js("return Array.from(document.querySelectorAll('#map .cross'))"
-                  ".map(e => e.dataset.link);"))
+    return set(drawn()["crosses"])
+
+
+def stroke_pixels(dirs):
+    """The colour the canvas holds at the middle of each direction's stroke
+    (CanvasRenderingContext2D.getImageData): (link, dir) -> (r, g, b)."""
+    pts = js("""var c = document.getElementById('map'), g = c.getContext('2d'),
+        s = c.width / window.weftMap.drawn().width, out = [];
+        for (const d of arguments[0]) {
+            const p = g.getImageData(Math.floor(d[6] * s), Math.floor(d[7] * s), 1, 1).data;
+            out.push([d[0], d[1], p[0], p[1], p[2]]);
+        }
+        return out;""", dirs)
+    return {(l, d): (r, g, b) for l, d, r, g, b in pts}
+
+
+def check_pixels(what, want_rgb, least):
+    """At least the fraction least of the directions drawn (where other
+    marks may cover a stroke's middle: crossings, badges, nodes) must show,
+    in the canvas's pixels, the colour the scale gives (each channel within
+    1 of it, for the resampling of a scaled drawing)."""
+    d = drawn()
+    r = d["node_r"] + 2
+    # Only stroke middles that no label or node mark covers (as the page
+    # reports where it put them), on strokes long enough that their own
+    # arrow (at 0.58 of the way) and "!" badge (at 0.38) leave the middle.
+    dirs = [x for x in d["dirs"] if x[8] >= STROKE_LEAST
+            and not any(b[1] <= x[6] <= b[3] and b[2] <= x[7] <= b[4] for b in d["labels"])
+            and not any(abs(n[1] - x[6]) <= r and abs(n[2] - x[7]) <= r for n in d["nodes"])]
+    px = stroke_pixels(dirs)
+    good = [k for k, rgb in px.items()
+            if all(abs(a - b) <= 1 for a, b in zip(rgb, want_rgb[k]))]
+    frac = len(good) / max(1, len(px))
+    check(frac >= least, "%s: only %d of %d stroke middles show the scale's colour (%s)"
+          % (what, len(good), len(px), sorted((k, px[k], want_rgb[k]) for k in px
+                                              if k not in set(good))[:3]))
+    return frac
 
 
 def check_map(links, utils, down, headroom, what):
@@ -173,6 +239,9 @@ def check_map(links, utils, down, headroom, what):
             bad.append("%s %s: colour %s, the scale gives %s for %r"
                        % (lid, d, rgb, exp, utils.get((lid, d))))
     check(not bad, "%s: %d strokes wrong: %s" % (what, len(bad), "; ".join(bad[:5])))
+    want_rgb = {k: (DOWN_RGB if k[0] in down else expected_rgb(utils[k])) for k in drawn}
+    frac = check_pixels(what, want_rgb, PIXELS_LEAST)
+    print("# %s: %.0f %% of the uncovered stroke middles show the scale's colour" % (what, 100 * frac))
     check(crosses() == set(down), "%s: crosses on %s, expected on %s"
           % (what, sorted(crosses()), sorted(down)))
     marks = over_marks()
@@ -229,9 +298,13 @@ def open_page():
     wait_for("the page to show a plan", lambda: page_state()[0] == "ready")
 
 
-def wait_page_revision(rev):
+def wait_page_revision(rev, timeout=WAIT_S):
+    """Until the page shows plan rev on the map and in the table (which
+    follows the map by a task: body[data-table] is "REV MODE")."""
     wait_for("the page to show plan %d" % rev,
-             lambda: page_state()[1] == str(rev) and page_state()[0] == "ready")
+             lambda: page_state()[1] == str(rev) and page_state()[0] == "ready"
+             and js("return document.body.dataset.table") == "%d %s" % (rev, page_state()[2]),
+             timeout=timeout)
 
 
 # ---- cases ----
@@ -241,10 +314,10 @@ def test_page_files():
     check(r.status == 200, "GET / is %d" % r.status)
     check(r.headers.get("Content-Type", "").startswith("text/html"),
           "GET / Content-Type %r" % r.headers.get("Content-Type"))
-    check(b'<svg id="map"' in r.body, "GET / is not the map page")
+    check(b'<canvas id="map"' in r.body, "GET / is not the map page")
     for name, ctype in (("index.html", "text/html"), ("map.js", "text/javascript"),
                         ("scale.js", "text/javascript"), ("layout.js", "text/javascript"),
-                        ("style.css", "text/css")):
+                        ("canvas.js", "text/javascript"), ("style.css", "text/css")):
         r = D.get("/ui/" + name)
         check(r.status == 200, "GET /ui/%s is %d" % (name, r.status))
         check(r.headers.get("Content-Type", "").startswith(ctype),
@@ -256,7 +329,7 @@ def test_page_files():
     r = D.request("POST", "/ui/map.js", "x", ctype="text/plain")
     check(r.status == 405, "POST /ui/map.js gives %d" % r.status)
     # The page fetches nothing from elsewhere: every URL it names is ours.
-    for name in ("index.html", "map.js", "scale.js", "layout.js", "style.css"):
+    for name in ("index.html", "map.js", "scale.js", "layout.js", "canvas.js", "style.css"):
         text = D.get("/ui/" + name).body.decode()
         ext = [u for u in re.findall(r"(?:https?:)?//[^\s\"')]+", text)
                if "www.w3.org/2000/svg" not in u]
@@ -273,6 +346,10 @@ def test_live_map():
     n, over = check_map([(l["id"], l["state"]) for l in loads["links"]], loads_utils(loads),
                         CTX["down"], HEADROOM, "live map")
     CTX["live_loads"] = loads
+    # The page says what a plan is (as the README does).
+    caution = B.find_element("id", "caution")
+    check(caution.is_displayed() and "engineering advice" in caution.text
+          and "regulations" in caution.text, "no caution on the page: %r" % caution.text)
     png_ok(screenshot("map-live.png", "#page-top"))
     print("# %d directions drawn, %d at the headroom, 1 link down; live via %s"
           % (n, over, page_state()[3]))
@@ -338,6 +415,34 @@ def test_table_sorts():
     click_header("id")
 
 
+def client_point(x, y):
+    """The viewport point (CSS px) of the drawing's screen point (x, y)."""
+    r = js("var r = document.getElementById('map').getBoundingClientRect();"
+           "return [r.left, r.top, r.width];")
+    f = r[2] / drawn()["width"]
+    return r[0] + x * f, r[1] + y * f
+
+
+def mouse(kind, x, y, buttons=0, button="none", clicks=0):
+    """A real mouse event at the viewport point (x, y) (Chrome DevTools
+    Protocol, Input.dispatchMouseEvent): the browser hit-tests and fires
+    pointer, mouse and click events as for a person's mouse."""
+    B.execute_cdp_cmd("Input.dispatchMouseEvent", {"type": kind, "x": x, "y": y, "button": button,
+                                                   "buttons": buttons, "clickCount": clicks})
+
+
+def click_link(lid):
+    """A click at the middle of link lid's axis, where the map drew it:
+    halfway between its two directions' middles."""
+    js("document.getElementById('map').scrollIntoView({block: 'center'});")
+    ms = [(d[6], d[7]) for d in drawn()["dirs"] if d[0] == lid]
+    check(len(ms) == 2, "link %s is drawn with %d directions" % (lid, len(ms)))
+    x, y = client_point((ms[0][0] + ms[1][0]) / 2, (ms[0][1] + ms[1][1]) / 2)
+    mouse("mouseMoved", x, y)
+    mouse("mousePressed", x, y, buttons=1, button="left", clicks=1)
+    mouse("mouseReleased", x, y, button="left", clicks=1)
+
+
 def test_link_details():
     loads = CTX["live_loads"]
     routes = D.get("/v1/plan/routes").json()
@@ -351,10 +456,18 @@ def test_link_details():
             for k, lid in enumerate(p["links"]):
                 if lid == l["id"]:
                     count["a_to_b" if p["nodes"][k] == l["a"] else "b_to_a"].add(i)
-    js("document.querySelector('#map line.hit[data-hit=\"' + arguments[0] + '\"]')"
-       ".dispatchEvent(new MouseEvent('click', {bubbles: true}));", l["id"])
+    click_link(l["id"])
     wait_for("the link panel", lambda: js(
         "return document.getElementById('info-body').dataset.link") == l["id"])
+    # The demands come with the routes, read when the panel first needs them,
+    # and only those crossing the link (?link=ID): a page showing a full
+    # matrix never reads all of its routes.
+    wait_for("the demands in the panel", lambda: js(
+        "return document.querySelectorAll('#info-body [data-dir][data-count]').length") == 2)
+    asked = js("return performance.getEntriesByType('resource').map(e => e.name)"
+               ".filter(n => n.indexOf('/v1/plan/routes') >= 0);")
+    check(asked and all("link=" in u for u in asked),
+          "the page read routes without the link filter: %r" % asked)
     text = B.find_element("id", "info-body").text
     check(l["id"] in text and l["a"] in text and l["b"] in text, "the panel lacks the link: %r" % text[:200])
     for d in ("a_to_b", "b_to_a"):
@@ -367,9 +480,13 @@ def test_link_details():
     check(sum(len(v) for v in count.values()) > 0, "the busiest link carries no demand")
     row = js("return document.querySelector('#links-table tr.selected').dataset.link;")
     check(row == l["id"], "the table highlights %r" % row)
+    check("(pinned)" in B.find_element("id", "info-body").text, "the link is not pinned")
+    tip = js("return document.getElementById('map').title;")
+    check(tip.startswith(l["id"] + ": ") and ("%.1f %%" % (100 * l["a_to_b"]["utilization"])) in tip,
+          "the map's tooltip over %s is %r" % (l["id"], tip))
     # Click again to unpin.
-    js("document.querySelector('#map line.hit[data-hit=\"' + arguments[0] + '\"]')"
-       ".dispatchEvent(new MouseEvent('click', {bubbles: true}));", l["id"])
+    click_link(l["id"])
+    wait_for("the link unpinned", lambda: "(pinned)" not in B.find_element("id", "info-body").text)
 
 
 def test_whatif():
@@ -645,8 +762,7 @@ def test_layout_without_coordinates():
     def positions():
         B.get(D.base + "/")
         wait_for("the page", lambda: page_state()[0] == "ready")
-        return js("return Array.from(document.querySelectorAll('#map .node circle'))"
-                  ".map(c => [c.parentNode.dataset.node, +c.getAttribute('cx'), +c.getAttribute('cy')]);")
+        return drawn()["nodes"]
     first = positions()
     second = positions()
     check(first == second, "the layout differs between two loads")
@@ -660,9 +776,257 @@ def test_layout_without_coordinates():
     png_ok(screenshot("map-layout.png", "#page-top"))
 
 
+# ---------------------------------------------------------------------------
+# A continental network: the Kdl topology (Internet Topology Zoo, 754 nodes,
+# 899 links with coordinates; tests/data/PROVENANCE.md) with the seeded
+# synthetic traffic of tests/bench/synth.py, in a daemon of its own.  The
+# checks are functional (every node and link drawn, a pan moves the view, a
+# link-down recolours to the new loads, the page keeps answering scripts
+# while panning); the timings are measured in the page (performance.now(),
+# PerformanceObserver 'longtask') and only recorded, never asserted.
+# ---------------------------------------------------------------------------
+KDL_SITES = 30
+KDL_HEADROOM = 0.9
+KDL_TIMINGS = os.path.join(ARTIFACTS, "kdl-timings.json")
+PAN_STEPS = 40
+
+# Installed before the page's own scripts: long tasks, the arrival of each
+# "plan" event, and for each change of body[data-state] or [data-revision]
+# the time it happened and the end of the frame after it (a task posted
+# from the next animation frame runs once that frame is drawn).
+PERF_HOOK = r"""
+(function () {
+    var P = window.__weftPerf = { long: [], plans: [], marks: [] };
+    P.afterFrame = function (cb) {
+        requestAnimationFrame(function () {
+            var ch = new MessageChannel();
+            ch.port1.onmessage = function () { cb(performance.now()); };
+            ch.port2.postMessage(0);
+        });
+    };
+    try {
+        new PerformanceObserver(function (l) {
+            l.getEntries().forEach(function (e) { P.long.push([e.startTime, e.duration]); });
+        }).observe({ type: "longtask", buffered: true });
+    } catch (e) { P.noLongtask = String(e); }
+    var Real = window.EventSource;
+    if (Real) {
+        var Wrap = function (u, o) {
+            var es = new Real(u, o);
+            es.addEventListener("plan", function (ev) { P.plans.push([performance.now(), ev.data]); });
+            return es;
+        };
+        Wrap.prototype = Real.prototype;
+        Wrap.CONNECTING = Real.CONNECTING; Wrap.OPEN = Real.OPEN; Wrap.CLOSED = Real.CLOSED;
+        window.EventSource = Wrap;
+    }
+    new MutationObserver(function (ms) {
+        ms.forEach(function (m) {
+            var rec = [m.attributeName, m.target.getAttribute(m.attributeName), performance.now(), null];
+            P.marks.push(rec);
+            P.afterFrame(function (t) { rec[3] = t; });
+        });
+    }).observe(document, { subtree: true, attributes: true,
+                           attributeFilter: ["data-state", "data-revision"] });
+})();
+"""
+
+# Pans by PAN_STEPS pointer moves, one per frame, and times each from the
+# move to the end of the frame that drew it; every step is itself a script
+# the page runs while panning.
+PAN_SCRIPT = r"""
+var done = arguments[arguments.length - 1], x0 = arguments[0], y0 = arguments[1],
+    n = arguments[2], m = document.getElementById('map'), x = x0, y = y0, out = [], i = 0;
+function ev(type) {
+    m.dispatchEvent(new PointerEvent(type, { pointerId: 1, isPrimary: true, pointerType: 'mouse',
+        button: 0, buttons: type === 'pointerup' ? 0 : 1, clientX: x, clientY: y,
+        bubbles: true, cancelable: true }));
+}
+ev('pointerdown');
+function step() {
+    if (i++ >= n) { ev('pointerup'); done(out); return; }
+    var t0 = performance.now();
+    x += 3; y += 2;
+    ev('pointermove');
+    window.__weftPerf.afterFrame(function (t1) { out.push(t1 - t0); step(); });
+}
+step();
+"""
+
+
+def longest(entries, since=0.0):
+    return max([d for t, d in entries if t >= since] or [0])
+
+
+def empty_point():
+    """A viewport point on the map where no link is (weftMap.hit), as near
+    the middle as the grid finds."""
+    d = drawn()
+    best = None
+    for i in range(10, 91, 2):
+        for j in range(10, 91, 2):
+            x, y = d["width"] * i / 100, d["height"] * j / 100
+            if js("return window.weftMap.hit(arguments[0], arguments[1]);", x, y) is None:
+                k = (i - 50) ** 2 + (j - 50) ** 2
+                if best is None or k < best[0]:
+                    best = (k, x, y)
+    check(best is not None, "no empty place on the map to start a pan")
+    return best[1], best[2]
+
+
+def test_kdl_map():
+    global D
+    import json
+    import statistics
+    import subprocess
+    live = D
+    tmp = tempfile.mkdtemp(prefix="weft-kdl-")
+    hook = None
+    try:
+        out = os.path.join(tmp, "kdl.json")
+        subprocess.run(["/usr/bin/python3", os.path.join(ROOT, "tests", "bench", "synth.py"),
+                        "--sites", str(KDL_SITES), "--out", out], check=True,
+                       stdout=subprocess.DEVNULL, timeout=300)
+        with open(out) as f:
+            case = json.load(f)
+        D = Daemon()
+        for path, body in (("/v1/topology", case["topology"]),
+                           ("/v1/matrices/kdl", {"demands": case["demands"]})):
+            r = D.put(path, body)
+            check(r.status == 200, "PUT %s: %r" % (path, r))
+        r = D.put("/v1/policy", {"objective": "balance", "headroom": KDL_HEADROOM, "matrix": "kdl"})
+        plan = D.wait_plan(r.json()["model_revision"], verify=False)
+        check(plan["status"] == "optimal", "the Kdl plan is %s" % plan["status"])
+        topo = D.get("/v1/topology").json()
+        check(len(topo["nodes"]) == len(case["topology"]["nodes"]) and
+              len(topo["links"]) == len(case["topology"]["links"]), "the daemon holds another topology")
+
+        hook = B.execute_cdp_cmd("Page.addScriptToEvaluateOnNewDocument", {"source": PERF_HOOK})
+        B.get(D.base + "/")
+        loads = D.get("/v1/plan/loads").json()
+        wait_page_revision(loads["revision"], timeout=180)
+
+        # Every node and every link direction drawn, in the loads' colours.
+        d = drawn()
+        want_nodes = {n["id"] for n in topo["nodes"]}
+        got_nodes = [n[0] for n in d["nodes"]]
+        check(len(got_nodes) == len(want_nodes) and set(got_nodes) == want_nodes,
+              "nodes drawn %d, the topology has %d" % (len(got_nodes), len(want_nodes)))
+        check(d["culled"] == 0, "%d links left out of the first view" % d["culled"])
+        ndirs, nover = check_map([(l["id"], l["state"]) for l in loads["links"]], loads_utils(loads),
+                                 set(), KDL_HEADROOM, "Kdl map")
+        check(ndirs == 2 * len(topo["links"]), "directions drawn %d for %d links"
+              % (ndirs, len(topo["links"])))
+        png_ok(screenshot("map-kdl.png", "#page-top"))
+        perf = js("return window.__weftPerf;")
+        first = [m for m in perf["marks"] if m[0] == "data-state" and m[1] == "ready"]
+        check(first and first[0][3] is not None, "no first drawing recorded: %r" % perf["marks"][:4])
+        t = {"nodes": len(want_nodes), "links": len(topo["links"]), "directions": ndirs,
+             "first_draw_ms": round(first[0][3], 1),
+             "longest_long_task_load_ms": longest(perf["long"]),
+             "longtask_observed": "noLongtask" not in perf}
+
+        # A pan by real mouse input moves the view and every node with it.
+        js("document.getElementById('map').scrollIntoView({block: 'center'});")
+        x, y = empty_point()
+        before = {n[0]: (n[1], n[2]) for n in drawn()["nodes"]}
+        cx, cy = client_point(x, y)
+        mouse("mouseMoved", cx, cy)
+        mouse("mousePressed", cx, cy, buttons=1, button="left", clicks=1)
+        for k in range(1, 11):
+            mouse("mouseMoved", cx + 6 * k, cy + 3 * k, buttons=1)
+        mouse("mouseReleased", cx + 60, cy + 30, button="left", clicks=1)
+        after = drawn()
+        f = after["width"] / js("return document.getElementById('map').getBoundingClientRect().width;")
+        moved = [(p[1] - before[p[0]][0], p[2] - before[p[0]][1]) for p in after["nodes"]]
+        check(all(abs(dx - 60 * f) < 0.01 and abs(dy - 30 * f) < 0.01 for dx, dy in moved),
+              "a drag of (60, 30) px moved the nodes by %s... (expected %.2f, %.2f)"
+              % (moved[:2], 60 * f, 30 * f))
+        check(js("return document.body.dataset.state") == "ready", "the page is not ready after the pan")
+
+        # The pan timed in the page; each step is a script the page runs.
+        js("document.getElementById('map').dispatchEvent(new MouseEvent('dblclick'));")
+        x, y = client_point(*empty_point())
+        n0 = js("return performance.now();")
+        frames = B.execute_async_script(PAN_SCRIPT, x, y, PAN_STEPS)
+        check(len(frames) == PAN_STEPS, "%d of %d pan steps ran" % (len(frames), PAN_STEPS))
+        check(js("return 6 * 7;") == 42, "the page does not run a script after the pan")
+        perf = js("return window.__weftPerf;")
+        t["pan_frame_ms_median"] = round(statistics.median(frames), 1)
+        t["pan_frame_ms_max"] = round(max(frames), 1)
+        t["longest_long_task_pan_ms"] = longest(perf["long"], n0)
+        # The drag's frames move the last whole frame; the one after the
+        # drag draws everything again (the page's own measure of it).
+        t["whole_frame_ms"] = round(drawn()["full_frame_ms"], 1)
+        check(drawn()["view"]["x"] > 0, "the timed pan did not move the view: %r" % drawn()["view"])
+        js("document.getElementById('map').dispatchEvent(new MouseEvent('dblclick'));")
+        check(drawn()["view"] == {"k": 1, "x": 0, "y": 0}, "a double click leaves the view at %r"
+              % drawn()["view"])
+        # The keyboard: on the focused map an arrow pans, 0 resets.
+        B.find_element("id", "map").send_keys("\ue012")      # WebDriver's ArrowLeft
+        check(js("return document.activeElement.id") == "map", "the map takes no focus")
+        check(drawn()["view"]["x"] > 0 and drawn()["view"]["y"] == 0,
+              "ArrowLeft leaves the view at %r" % drawn()["view"])
+        B.find_element("id", "map").send_keys("0")
+        check(drawn()["view"] == {"k": 1, "x": 0, "y": 0}, "0 leaves the view at %r" % drawn()["view"])
+
+        # A link down: a new plan, and the map recoloured to its loads.
+        up = [l for l in loads["links"] if l["state"] == "up"]
+        victim = max(up, key=lambda l: (l["a_to_b"]["load_bps"] + l["b_to_a"]["load_bps"], l["id"]))
+        n0 = js("return performance.now();")
+        r = D.request("PATCH", "/v1/links/" + victim["id"], {"state": "down"})
+        check(r.status == 200, "PATCH %s down: %r" % (victim["id"], r))
+        plan = D.wait_plan(r.json()["model_revision"], verify=False)
+        check(plan["status"] == "optimal", "the plan without %s is %s" % (victim["id"], plan["status"]))
+        new = D.get("/v1/plan/loads").json()
+        check(new["revision"] == plan["revision"], "the plan moved during the test")
+        wait_page_revision(new["revision"], timeout=180)
+        check({l["id"] for l in new["links"] if l["state"] != "up"} == {victim["id"]},
+              "the loads do not show %s down" % victim["id"])
+        check_map([(l["id"], l["state"]) for l in new["links"]], loads_utils(new), {victim["id"]},
+                  KDL_HEADROOM, "Kdl map without %s" % victim["id"])
+        changed = sum(1 for a, b in zip(loads["links"], new["links"])
+                      for dd in ("a_to_b", "b_to_a")
+                      if expected_rgb(a[dd]["utilization"]) != expected_rgb(b[dd]["utilization"]))
+        check(changed > 0, "taking %s down changed no colour" % victim["id"])
+        perf = js("return window.__weftPerf;")
+        ev = [p for p in perf["plans"] if json.loads(p[1])["revision"] == new["revision"]]
+        mk = [m for m in perf["marks"] if m[0] == "data-revision" and m[1] == str(new["revision"])]
+        t["link_down"] = victim["id"]
+        t["directions_recoloured"] = changed
+        if ev and mk and mk[-1][3] is not None:
+            t["recolour_ms"] = round(mk[-1][3] - ev[0][0], 1)
+        else:
+            t["recolour_ms"] = None     # the page learnt of the plan otherwise
+        t["longest_long_task_recolour_ms"] = longest(perf["long"], n0)
+        t["longest_long_task_ms"] = longest(perf["long"])
+        t["long_tasks"] = len(perf["long"])
+        t["live"] = page_state()[3]
+        png_ok(screenshot("map-kdl-down.png", "#page-top"))
+        os.makedirs(ARTIFACTS, exist_ok=True)
+        with open(KDL_TIMINGS, "w") as f:
+            json.dump(t, f, indent=1, sort_keys=True)
+        print("# Kdl (%d nodes, %d links): first draw %.0f ms, pan frame median %.1f ms (max %.1f), "
+              "whole frame %.1f ms, recolour %s ms, longest long task %d ms (load %d, pan %d, "
+              "recolour %d); %s"
+              % (t["nodes"], t["links"], t["first_draw_ms"], t["pan_frame_ms_median"],
+                 t["pan_frame_ms_max"], t["whole_frame_ms"], t["recolour_ms"], t["longest_long_task_ms"],
+                 t["longest_long_task_load_ms"], t["longest_long_task_pan_ms"],
+                 t["longest_long_task_recolour_ms"], os.path.relpath(KDL_TIMINGS, ROOT)))
+    finally:
+        if hook is not None:
+            B.execute_cdp_cmd("Page.removeScriptToEvaluateOnNewDocument",
+                              {"identifier": hook["identifier"]})
+        if D is not live:
+            B.get("about:blank")
+            D.stop()
+            D = live
+        shutil.rmtree(tmp, ignore_errors=True)
+
+
 CASES = [test_page_files, test_live_map, test_table_sorts, test_link_details, test_whatif,
          test_live_update, test_live_polling, test_sweep_view, test_report_svg, test_report_svg_escapes,
-         test_layout_without_coordinates]
+         test_layout_without_coordinates, test_kdl_map]
 
 
 def start_browser(profile):
@@ -740,8 +1104,11 @@ def main():
         print("# germany50 x %g, balance, %s down: %s, max utilisation %.3f"
               % (DEMAND_SCALE, down, plan["status"], plan["max_utilization"]))
         B = start_browser(profile)
-        print("1..%d" % len(CASES))
-        for i, case in enumerate(CASES, 1):
+        # Case names on the command line run only those (the set-up above
+        # still runs): map_test.py kdl_map
+        cases = [c for c in CASES if not sys.argv[1:] or c.__name__[5:] in sys.argv[1:]]
+        print("1..%d" % len(cases))
+        for i, case in enumerate(cases, 1):
             name = case.__name__[5:]
             try:
                 case()

@@ -1,5 +1,6 @@
 /* SPDX-License-Identifier: GPL-3.0-or-later */
-/* libFuzzer target: request paths and query values (routes.c, query.c). */
+/* libFuzzer target: request paths, query values and Accept-Encoding
+   (routes.c, query.c, compress.c). */
 
 /*
  * DESIGN
@@ -8,7 +9,7 @@
  * is split at '\n' into fields, in this order:
  *
  *   method, path, Content-Type, wait, after, from, format, stage,
- *   matrix name
+ *   matrix name, limit, page cursor (after), Accept-Encoding
  *
  * A field the input does not reach is absent (NULL), as is a field whose
  * first byte is 0x01, so "absent" and "empty" are both reachable.  Each
@@ -24,6 +25,7 @@
 #include <string.h>
 
 #include "../../api/codec_model.h"
+#include "../../api/compress.h"
 #include "../../api/http.h"
 #include "../../api/query.h"
 #include "../../api/routes.h"
@@ -40,7 +42,7 @@ int LLVMFuzzerTestOneInput(const uint8_t *data, size_t size);
 } while (0)
 
 enum { F_METHOD, F_PATH, F_CTYPE, F_WAIT, F_AFTER, F_FROM, F_FORMAT,
-    F_STAGE, F_MATRIX, F_N };
+    F_STAGE, F_MATRIX, F_LIMIT, F_CURSOR, F_ACCEPT_ENC, F_N };
 
 int
 LLVMFuzzerTestOneInput(const uint8_t *data, size_t size)
@@ -53,7 +55,8 @@ LLVMFuzzerTestOneInput(const uint8_t *data, size_t size)
 	const char *nl;
 	double wait_s;
 	int64_t after, rev;
-	size_t pos = 0, n, k;
+	size_t pos = 0, n, k, limit, idx;
+	enum compress_coding c;
 	bool has_after;
 	int stage, r;
 
@@ -96,6 +99,17 @@ LLVMFuzzerTestOneInput(const uint8_t *data, size_t size)
 	r = query_export(f[F_FORMAT], f[F_STAGE], &fmt, &stage, &e);
 	CHECK(r != 0 || (stage >= -1 && stage < PLAN_STAGES_MAX));
 	(void)codec_matrix_name_ok(f[F_MATRIX]);
+	err_clear(&e);
+	r = query_page(f[F_LIMIT], f[F_CURSOR], &limit, &has_after, &rev,
+	    &idx, &e);
+	CHECK(r != 0 || (f[F_LIMIT] == NULL) == (limit == 0));
+	CHECK(r != 0 || limit <= QUERY_LIMIT_MAX);
+	CHECK(r != 0 || !has_after || rev >= 1);
+	CHECK(r == 0 || !has_after);
+	c = compress_choose(f[F_ACCEPT_ENC], SIZE_MAX);
+	CHECK(c == COMPRESS_IDENTITY || c == COMPRESS_GZIP ||
+	    c == COMPRESS_DEFLATE);
+	CHECK(f[F_ACCEPT_ENC] != NULL || c == COMPRESS_IDENTITY);
 
 	for (k = 0; k < F_N; k++)
 		free(f[k]);

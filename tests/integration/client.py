@@ -274,7 +274,18 @@ def test_policy_show_and_change():
     plan = api("GET", "/v1/plan")
     near(plan["max_utilization"], 0.75, "balance max_utilization (hand-derived)")
     check("75.0%" in out, "the --wait line shows the plan: %r" % out)
-    ok(["policy", "--objective", "cost", "--headroom", "1", "--wait"])
+    # The potential method with a 1 % gap target: the plan certifies its
+    # maximum utilisation against the same hand-derived 0.75.
+    ok(["policy", "--formulation", "potential", "--gap-target", "0.01", "--wait"])
+    p = api("GET", "/v1/policy")
+    check(p["formulation"] == "potential" and p["gap_target"] == 0.01, "policy after change %r" % p)
+    plan = api("GET", "/v1/plan")
+    check(plan["formulation"] == "potential" and plan["bound"] <= 0.75 * (1 + 1e-9)
+          and plan["max_utilization"] >= 0.75 * (1 - 1e-9) and plan["gap"] <= 0.01,
+          "potential plan against U* = 0.75: %r" % {k: plan.get(k) for k in
+                                                   ("formulation", "bound", "max_utilization", "gap")})
+    ok(["policy", "--objective", "cost", "--headroom", "1", "--formulation", "path",
+        "--gap-target", "1e-7", "--wait"])
     check(api("GET", "/v1/policy")["objective"] == "cost", "objective not back to cost")
     rc, _, err = weft("policy", "--matrix", "no such!")
     check(rc == 2 and "400" in err, "bad matrix name: exit %d (%r)" % (rc, err))
@@ -475,6 +486,17 @@ def test_loads_table_matches_api():
     check(len(u2) == 3 and u2 == sorted(utils)[:3], "--top 3 --ascending %r" % u2)
     out, _ = ok(["loads", "--top", "2"])
     check(len(table_rows(out, "LINK")) == 2, "--top 2: %r" % out)
+    # --node and --link: the daemon's filters, against Python's filter of
+    # the whole GET /v1/plan/loads.
+    for args, keep in ((["--node", "B"], lambda l: "B" in (l["a"], l["b"])),
+                       (["--link", "L_CD"], lambda l: l["id"] == "L_CD"),
+                       (["--node", "A", "--link", "L_BD"], lambda l: False)):
+        j3 = okjson(["loads"] + args)
+        got3 = sorted((d["link"], d["from"], d["to"]) for d in j3["directions"])
+        want3 = sorted(k for k in want if keep(next(l for l in loads["links"] if l["id"] == k[0])))
+        check(got3 == want3, "loads %s: %r, want %r" % (" ".join(args), got3, want3))
+    rc, _, err = weft("loads", "--node", "NOPE")
+    check(rc == 2 and "not_found" in err, "unknown node: %d %r" % (rc, err))
 
 
 def test_routes_of_a_demand():

@@ -426,6 +426,17 @@ def exercise(s, d):
         s.call("GET", p, expect=200)
     s.call("GET", "/v1/model", expect=200)
     s.call("GET", "/v1/model?format=mps&stage=0", expect=200)
+    s.call("GET", "/v1/snapshot", expect=200)
+    # Filters and pages of the plan lists, and their refusals.
+    nxt = s.call("GET", "/v1/plan/routes?limit=2", expect=200).json()["next"]
+    s.call("GET", "/v1/plan/routes?limit=2&after=" + nxt, expect=200)
+    for p in ("/v1/plan/routes?src=PEL", "/v1/plan/routes?dst=ALD&link=CRB-PEL",
+              "/v1/plan/loads?node=PEL&limit=1", "/v1/plan/loads?link=CRB-PEL"):
+        s.call("GET", p, expect=200)
+    for p in ("/v1/plan/routes?limit=0", "/v1/plan/loads?after=x", "/v1/plan/routes?foo=1"):
+        s.call("GET", p, expect=400)
+    s.call("GET", "/v1/plan/routes?src=NOPE", expect=404)
+    s.call("GET", "/v1/plan/loads?after=999999.0", expect=409)
 
     # Round trips: what GET gives, PUT takes.
     topo = s.call("GET", "/v1/topology", expect=200).json()

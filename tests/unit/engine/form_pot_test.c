@@ -79,6 +79,18 @@ exact_u(struct model *m, enum plan_status *status)
 	return u;
 }
 
+/* tests/data/sndlib/NAME with every capacity x factor, or NULL. */
+static struct model *
+load_scaled(const char *name, double factor)
+{
+	struct model *m = load_sndlib(name);
+	size_t k;
+
+	for (k = 0; m != NULL && k < m->n_links; k++)
+		m->links[k].capacity_bps *= factor;
+	return m;
+}
+
 static void
 test_two_routes(void)
 {
@@ -118,19 +130,17 @@ test_sndlib(void)
 	struct engine_state *st;
 	struct model *m;
 	struct plan *p;
-	size_t i, k;
+	size_t i;
 	double u;
 
 	for (i = 0; i < sizeof(cases) / sizeof(cases[0]); i++) {
 		TEST_START(cases[i].name);
-		m = load_sndlib(cases[i].name);
+		m = load_scaled(cases[i].name, cases[i].factor);
 		ASSERT_TRUE(m != NULL);
 		if (m == NULL) {
 			TEST_DONE();
 			continue;
 		}
-		for (k = 0; k < m->n_links; k++)
-			m->links[k].capacity_bps *= cases[i].factor;
 		st = NULL;
 		u = exact_u(m, NULL);
 		p = solve_as(&st, m, FORM_POT);
@@ -158,10 +168,10 @@ static void
 test_warm_failures(void)
 {
 	struct engine_state *st = NULL;
-	struct model *m = load_sndlib("germany50.txt");
+	struct model *m = load_scaled("germany50.txt", 10);
 	struct plan *p;
 	enum plan_status es;
-	size_t k, l;
+	size_t l;
 	int bad = 0, warm = 0, n = 0;
 	double u;
 
@@ -171,8 +181,6 @@ test_warm_failures(void)
 		TEST_DONE();
 		return;
 	}
-	for (k = 0; k < m->n_links; k++)
-		m->links[k].capacity_bps *= 10;
 	p = solve_as(&st, m, FORM_POT);
 	plan_free(p);
 	for (l = 0; l < 8; l++) {
@@ -266,6 +274,52 @@ test_no_fit(void)
 	TEST_DONE();
 }
 
+/*
+ * One kept state through path, potential and path again, a seed taken
+ * and freed between: the seed leaves the potential method's flows with
+ * the state (make check-asan-unit runs this under AddressSanitizer).
+ */
+static void
+test_mixed_state(void)
+{
+	struct engine_state *st = NULL, *st2;
+	struct engine_seed *sd;
+	struct model *m = load_scaled("polska.txt", 10);
+	struct plan *p;
+	int bad = 0;
+
+	TEST_START("path, potential, path on one state; seeds own no flows");
+	ASSERT_TRUE(m != NULL);
+	if (m == NULL) {
+		TEST_DONE();
+		return;
+	}
+	p = solve_as(&st, m, FORM_PATH);
+	bad += p == NULL;
+	plan_free(p);
+	p = solve_as(&st, m, FORM_POT);
+	bad += p == NULL || p->formulation != FORM_POT;
+	plan_free(p);
+	p = solve_as(&st, m, FORM_PATH);
+	bad += p == NULL || !p->warm;
+	plan_free(p);
+	sd = engine_seed_take(st);
+	bad += sd == NULL;
+	st2 = engine_state_from_seed(sd);
+	engine_seed_free(sd);
+	p = solve_as(&st2, m, FORM_POT);
+	bad += p == NULL || p->formulation != FORM_POT;
+	plan_free(p);
+	engine_state_free(st2);
+	p = solve_as(&st, m, FORM_POT);
+	bad += p == NULL || !p->warm;
+	plan_free(p);
+	ASSERT_INT_EQ(bad, 0);
+	engine_state_free(st);
+	model_free(m);
+	TEST_DONE();
+}
+
 static void
 test_words(void)
 {
@@ -287,6 +341,7 @@ main(void)
 	test_sndlib();
 	test_warm_failures();
 	test_no_fit();
+	test_mixed_state();
 	engine_thread_done();
 	return tap_finish();
 }
