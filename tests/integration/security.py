@@ -78,6 +78,7 @@ ROLES = [
     ("GET", "/v1/plan/forwarding", "/v1/plan/forwarding", "read"),
     ("GET", "/v1/plan/diff", "/v1/plan/diff?from=1", "read"),
     ("GET", "/v1/model", "/v1/model?format=lp", "read"),
+    ("GET", "/v1/snapshot", "/v1/snapshot", "read"),
     ("POST", "/v1/whatif", "/v1/whatif", "operate"),
     ("POST", "/v1/sweeps", "/v1/sweeps", "operate"),
     ("GET", "/v1/sweeps", "/v1/sweeps", "read"),

@@ -587,9 +587,9 @@ def main(argv):
         d.stop()
     failed = {1: "a check failed", 2: "weftd could not run"}
     run_script(rep, "congestion objective", "congestion.py",
-               dict(failed, **{3: "weftd refused objective \"congestion\""}))
+               {**failed, 3: "weftd refused objective \"congestion\""})
     run_script(rep, "what-ifs and sweeps", "whatif.py",
-               dict(failed, **{3: "weftd does not serve POST /v1/whatif or link SRLGs"}))
+               {**failed, 3: "weftd does not serve POST /v1/whatif or link SRLGs"})
     run_script(rep, "potential method and the Kdl family", "scale.py",
                {1: "a check failed", 2: "weftd or a reference solver could not run"},
                timeout=1500)
