@@ -920,8 +920,9 @@ form_pot_solve(struct pot **kp, const struct model *m,
 			break;
 		/*
 		 * A warm start that takes longer than the last cold solve
-		 * (a changed optimum under a sharp potential): start cold.
-		 * The bound found so far stays valid.
+		 * (a changed optimum under a sharp potential): start cold,
+		 * bound and all (a bound kept from the warm passes would
+		 * sharpen beta before the flows are near the optimum).
 		 */
 		if (warm && !restarted && passes > pp->cold_passes + 4) {
 			log_debug("potential: warm start slower than cold "
@@ -934,6 +935,9 @@ form_pot_solve(struct pot **kp, const struct model *m,
 			    1e-12));
 			restarted = true;
 			passes = 0;
+			lb = 0;
+			memset(yavg, 0, pp->n_arcs * sizeof(double));
+			n_avg = 0;
 			continue;
 		}
 		average_in(pp, yavg);
