@@ -76,15 +76,19 @@ def plan_fields(p):
 def weft_cold(inst, matrix_body):
     """One daemon, one cold plan; returns its record and the daemon."""
     d = Daemon(extra_args=["--max-body", str(1 << 29)])
-    ok(d.put("/v1/topology", inst["topology"], timeout=TIMEOUT), "PUT topology")
-    pol = ok(d.get("/v1/policy"), "GET policy")
-    pol.update({"objective": "balance", "headroom": 1.0, "formulation": "potential",
-                "gap_target": GAP, "matrix": "full"})
-    ok(d.put("/v1/policy", pol), "PUT policy")
-    t0 = time.time()
-    r = ok(d.put("/v1/matrices/full", matrix_body, timeout=TIMEOUT), "PUT matrix")
-    t_put = time.time() - t0
-    p = d.wait_plan(r["model_revision"], timeout=TIMEOUT, verify=False)
+    try:
+        ok(d.put("/v1/topology", inst["topology"], timeout=TIMEOUT), "PUT topology")
+        pol = ok(d.get("/v1/policy"), "GET policy")
+        pol.update({"objective": "balance", "headroom": 1.0, "formulation": "potential",
+                    "gap_target": GAP, "matrix": "full"})
+        ok(d.put("/v1/policy", pol), "PUT policy")
+        t0 = time.time()
+        r = ok(d.put("/v1/matrices/full", matrix_body, timeout=TIMEOUT), "PUT matrix")
+        t_put = time.time() - t0
+        p = d.wait_plan(r["model_revision"], timeout=TIMEOUT, verify=False)
+    except BaseException:
+        d.stop()
+        raise
     rec = plan_fields(p)
     rec.update({"put_s": t_put, "put_to_plan_s": time.time() - t0,
                 "daemon_hwm_mib": vm(d.proc.pid, "VmHWM")})
