@@ -58,6 +58,7 @@
 #include "compress.h"
 #include "../daemon/base/clock.h"
 #include "../daemon/base/err.h"
+#include "../daemon/base/hostport.h"
 #include "../daemon/base/log.h"
 #include "../daemon/base/xalloc.h"
 #include "../daemon/service.h"
@@ -732,35 +733,15 @@ resolve(const char *listen, struct addrinfo **aip, struct err *e)
 {
 	struct addrinfo hints;
 	char host[256];
-	const char *colon, *port;
-	size_t n;
+	const char *port;
 	int gr;
 
 	*aip = NULL;
 	if (listen == NULL || listen[0] == '\0')
 		return err_set(e, ERR_INVALID, "listen", "no listen address");
-	if (listen[0] == '[') {
-		colon = strchr(listen, ']');
-		if (colon == NULL || colon[1] != ':')
-			goto bad;
-		n = (size_t)(colon - listen - 1);
-		if (n >= sizeof(host))
-			goto bad;
-		memcpy(host, listen + 1, n);
-		port = colon + 2;
-	} else {
-		colon = strrchr(listen, ':');
-		if (colon == NULL)
-			goto bad;
-		n = (size_t)(colon - listen);
-		if (n >= sizeof(host) || memchr(listen, ':', n) != NULL)
-			goto bad;
-		memcpy(host, listen, n);
-		port = colon + 1;
-	}
-	host[n] = '\0';
-	if (n == 0 || port[0] == '\0')
-		goto bad;
+	if (hostport_split(listen, host, sizeof(host), &port) != 0)
+		return err_set(e, ERR_INVALID, "listen", "\"%s\" is not "
+		    "host:port or [address]:port", listen);
 	memset(&hints, 0, sizeof(hints));
 	hints.ai_family = AF_UNSPEC;
 	hints.ai_socktype = SOCK_STREAM;
@@ -769,9 +750,6 @@ resolve(const char *listen, struct addrinfo **aip, struct err *e)
 		return err_set(e, ERR_INVALID, "listen", "cannot resolve "
 		    "\"%s\": %s", listen, gai_strerror(gr));
 	return 0;
-bad:
-	return err_set(e, ERR_INVALID, "listen", "\"%s\" is not host:port "
-	    "or [address]:port", listen);
 }
 
 /* The checker's loader: the service's list of valid tokens. */

@@ -32,6 +32,7 @@
 #include "solver_thread.h"
 #include "base/clock.h"
 #include "base/err.h"
+#include "base/hostport.h"
 #include "base/log.h"
 #include "base/xalloc.h"
 
@@ -83,36 +84,19 @@ probe_addr(struct watchdog *w, const char *listen, struct err *e)
 {
 	struct addrinfo hints, *ai = NULL;
 	char host[256];
-	const char *colon;
-	size_t n;
+	const char *port;
 	int gr;
 
-	if (listen[0] == '[') {
-		colon = strchr(listen, ']');
-		if (colon == NULL || colon[1] != ':')
-			goto bad;
-		n = (size_t)(colon - listen - 1);
-		if (n >= sizeof(host))
-			goto bad;
-		memcpy(host, listen + 1, n);
-		colon++;
-	} else {
-		if ((colon = strrchr(listen, ':')) == NULL)
-			goto bad;
-		n = (size_t)(colon - listen);
-		if (n >= sizeof(host))
-			goto bad;
-		memcpy(host, listen, n);
-	}
-	host[n] = '\0';
-	if (n == 0 || strcmp(host, "0.0.0.0") == 0 || strcmp(host, "*") == 0)
+	if (hostport_split(listen, host, sizeof(host), &port) != 0)
+		goto bad;
+	if (strcmp(host, "0.0.0.0") == 0 || strcmp(host, "*") == 0)
 		snprintf(host, sizeof(host), "127.0.0.1");
 	else if (strcmp(host, "::") == 0)
 		snprintf(host, sizeof(host), "::1");
 	memset(&hints, 0, sizeof(hints));
 	hints.ai_socktype = SOCK_STREAM;
 	hints.ai_flags = AI_NUMERICSERV;
-	if ((gr = getaddrinfo(host, colon + 1, &hints, &ai)) != 0)
+	if ((gr = getaddrinfo(host, port, &hints, &ai)) != 0)
 		return err_set(e, ERR_INVALID, "listen", "cannot resolve "
 		    "\"%s\" for the watchdog: %s", listen, gai_strerror(gr));
 	if (ai->ai_addrlen > sizeof(w->addr)) {

@@ -439,41 +439,22 @@ dist_sum(const struct pot *p, const double *y)
 }
 
 /*
- * The dual bound on the least max utilisation for lengths y = ex / c:
- * sum_k d_k dist_y(k) / sum_a c_a y_a.
+ * The dual bound on the least max utilisation for arc weights w >= 0
+ * (any scale) as lengths y_a = w_a / c_a (into y):
+ * sum_k d_k dist_y(k) / sum_a c_a y_a.  The weights are the softmax
+ * weights ex of now, or their sum over the passes since the last bound
+ * (dual averaging: the average often certifies more than the last
+ * weights alone).
  */
 static double
-bound(struct pot *p, double *y)
+bound(const struct pot *p, const double *w, double *y)
 {
 	size_t a;
 	double norm = 0;
 
 	for (a = 0; a < p->n_arcs; a++) {
-		y[a] = p->cap[a] > 0 ? p->ex[a] / p->cap[a] : 0;
-		norm += p->ex[a];
-	}
-	if (!(norm > 0))
-		return 0;
-	return dist_sum(p, y) / norm;
-}
-
-/*
- * The same bound for the average of the softmax weights p_a = ex_a / Z
- * of the passes since the last bound (in yavg, n of them), as lengths
- * y_a = avg p_a / c_a: sum_a c_a y_a = 1.  Dual averaging: the average
- * often certifies more than the last weights alone.
- */
-static double
-bound_avg(struct pot *p, const double *yavg, int n, double *y)
-{
-	size_t a;
-	double norm = 0;
-
-	if (n <= 0)
-		return 0;
-	for (a = 0; a < p->n_arcs; a++) {
-		y[a] = p->cap[a] > 0 ? yavg[a] / n / p->cap[a] : 0;
-		norm += p->cap[a] * y[a];
+		y[a] = p->cap[a] > 0 ? w[a] / p->cap[a] : 0;
+		norm += p->cap[a] > 0 ? w[a] : 0;
 	}
 	if (!(norm > 0))
 		return 0;
@@ -532,7 +513,7 @@ setup(struct pot *p)
 {
 	const struct model *m = p->m;
 	size_t a, i, k, v, *src_of, *fill;
-	double cmax = 0, dsum = 0;
+	double cmax = 0;
 	bool *cut;
 
 	p->n = m->n_nodes;
@@ -582,7 +563,6 @@ setup(struct pot *p)
 		if (cut[k] || !(m->demands[k].rate_bps > 0))
 			continue;
 		p->want[k] = m->demands[k].rate_bps / p->scale;
-		dsum += p->want[k];
 		v = m->demands[k].src;
 		if (src_of[v] == SIZE_MAX) {
 			src_of[v] = p->n_src;
@@ -603,7 +583,6 @@ setup(struct pot *p)
 	free(fill);
 	free(src_of);
 	free(cut);
-	(void)dsum;
 
 	p->f = xcalloc(p->n_src * p->n_arcs + 1, sizeof(double));
 	p->L = xcalloc(p->n_arcs + 1, sizeof(double));
@@ -616,11 +595,12 @@ setup(struct pot *p)
 }
 
 /*
- * Starts from shortest TE-metric paths (the cheapest plan) and sets the
- * metric scale C0 to that plan's cost.
+ * Starts from shortest TE-metric paths (the cheapest plan); with
+ * set_scale, divides the metric by that plan's cost C0 (a restart keeps
+ * the scale it has).
  */
 static void
-start_cheapest(struct pot *p)
+start_cheapest(struct pot *p, bool set_scale)
 {
 	size_t si, a;
 	double c0 = 0;
@@ -633,7 +613,7 @@ start_cheapest(struct pot *p)
 	}
 	for (a = 0; a < p->n_arcs; a++)
 		c0 += p->metric[a] * p->L[a];
-	if (c0 > 0)
+	if (set_scale && c0 > 0)
 		for (a = 0; a < p->n_arcs; a++)
 			p->metric[a] /= c0;
 }
@@ -847,7 +827,6 @@ form_pot_solve(struct pot **kp, const struct model *m,
 	struct plan *pl;
 	double *y, lb = 0, ub, gap = INFINITY, target, delta, nb, ts;
 	double ts_bal, *yavg;
-	int n_avg = 0;
 	double headroom = m->policy.headroom;
 	int passes = 0, bounds = 0;
 	size_t si, again = 0;
@@ -872,7 +851,7 @@ form_pot_solve(struct pot **kp, const struct model *m,
 	if (warm)
 		again = rewarm(pp, old);
 	else
-		start_cheapest(pp);
+		start_cheapest(pp, true);
 	form_pot_free(old);
 	pp->cold_passes = cold_passes;
 
@@ -890,9 +869,8 @@ form_pot_solve(struct pot **kp, const struct model *m,
 	for (;;) {
 		reprice(pp);
 		if (passes % BOUND_EVERY == 0 || (warm && passes < 2)) {
-			nb = fmax(bound(pp, y), bound_avg(pp, yavg, n_avg, y));
+			nb = fmax(bound(pp, pp->ex, y), bound(pp, yavg, y));
 			memset(yavg, 0, pp->n_arcs * sizeof(double));
-			n_avg = 0;
 			bounds++;
 			if (nb > lb)
 				lb = nb;
@@ -929,7 +907,7 @@ form_pot_solve(struct pot **kp, const struct model *m,
 			    "(%d passes), starting cold", passes);
 			memset(pp->f, 0, pp->n_src * pp->n_arcs * sizeof(double));
 			memset(pp->L, 0, pp->n_arcs * sizeof(double));
-			start_cheapest(pp);
+			start_cheapest(pp, false);
 			ub = max_util(pp);
 			pp->beta = log((double)pp->n_up + 1) / (0.1 * fmax(ub,
 			    1e-12));
@@ -937,11 +915,9 @@ form_pot_solve(struct pot **kp, const struct model *m,
 			passes = 0;
 			lb = 0;
 			memset(yavg, 0, pp->n_arcs * sizeof(double));
-			n_avg = 0;
 			continue;
 		}
 		average_in(pp, yavg);
-		n_avg++;
 		for (si = 0; si < pp->n_src; si++)
 			step(pp, si);
 		passes++;

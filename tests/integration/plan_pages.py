@@ -437,19 +437,13 @@ def test_large_plan_paged_and_compressed():
 def main():
     global D, SMALL
     order = cases.select(globals(), sys.argv[1:])
-    failed = 0
     D = Daemon()
     try:
         SMALL, _ = load(SMALL_SITES, "balance")
-        failed = cases.run(globals(), order, CASE_TIMEOUT_S)
-        if not cases.exits_cleanly(D, len(order) + 1, scan_log=True):
-            failed += 1
-        order.append("daemon_exits_cleanly")
-    finally:
-        if failed:
-            cases.log_tail(D, 15)
+    except BaseException:
         D.stop()
-    return cases.finish(order, failed)
+        raise
+    return cases.finish(order, cases.run_then_stop(D, globals(), order, CASE_TIMEOUT_S))
 
 
 if __name__ == "__main__":

@@ -1410,20 +1410,10 @@ def tiny_installed(name):
 def main():
     global D
     order = cases.select(globals(), sys.argv[1:])
-    failed = 0
     D = Daemon(extra_args=["--max-body", str(MAX_BODY)])
-    try:
-        failed = cases.run(globals(), order, CASE_TIMEOUT_S, before=tiny_installed)
-        if D.proc is not None:
-            # Last case: the shared daemon stops cleanly on SIGTERM, and a
-            # sanitizer build reports nothing (its report lands in the log).
-            if not cases.exits_cleanly(D, len(order) + 1, scan_log=True):
-                failed += 1
-            order.append("daemon_exits_cleanly")
-    finally:
-        if failed:
-            cases.log_tail(D, 15)
-        D.stop()
+    # Last case: the shared daemon stops cleanly on SIGTERM, and a
+    # sanitizer build reports nothing (its report lands in the log).
+    failed = cases.run_then_stop(D, globals(), order, CASE_TIMEOUT_S, before=tiny_installed)
     return cases.finish(order, failed)
 
 

@@ -6,7 +6,8 @@ them in the order they stand in the file; run() runs each one, bounded in
 time by SIGALRM, and prints TAP (https://testanything.org, version 12):
 "ok N - name", "ok N - name # SKIP reason" for a case that raised Skip, or
 "not ok N - name" followed by the end of the traceback as "# " lines.
-exits_cleanly() is the usual last case, and finish() prints the plan line
+exits_cleanly() is the usual last case (run_then_stop() does both and stops
+the daemon), and finish() prints the plan line
 and gives the exit code.  One thread: the alarm interrupts the main one.
 """
 import signal
@@ -88,6 +89,25 @@ def exits_cleanly(d, n, scan_log=False):
     print("not ok %d - daemon_exits_cleanly" % n)
     print("# exit code %r; %s" % (rc, bad[:3]))
     return False
+
+
+def run_then_stop(d, ns, order, timeout_s, before=None):
+    """run() against daemon d, then, when d is ours, exits_cleanly() (with
+    the sanitizer scan) as the last case, appended to order; the log tail
+    when anything failed; d stopped whatever happens.  Returns the count
+    of failed cases, for finish()."""
+    failed = 0
+    try:
+        failed = run(ns, order, timeout_s, before=before)
+        if d.proc is not None:
+            if not exits_cleanly(d, len(order) + 1, scan_log=True):
+                failed += 1
+            order.append("daemon_exits_cleanly")
+    finally:
+        if failed:
+            log_tail(d, 15)
+        d.stop()
+    return failed
 
 
 def log_tail(d, lines):

@@ -102,6 +102,32 @@ bearer(char *buf, size_t n, const char *text)
 	return buf;
 }
 
+/*
+ * auth_check() of a for no token and each of texts[0..2], against each
+ * role of needs: reports every result that differs from want[token][need].
+ */
+static void
+check_roles(struct auth *a, char texts[3][AUTH_TOKEN_LEN + 1],
+    const enum auth_role needs[4], const int want[4][4])
+{
+	struct auth_who w;
+	char hdr[256];
+	size_t i, j;
+	int r;
+
+	for (i = 0; i < 4; i++) {
+		for (j = 0; j < 4; j++) {
+			struct err e2 = { 0 };
+
+			r = auth_check(a, needs[j], i == 0 ? NULL :
+			    bearer(hdr, sizeof(hdr), texts[i - 1]), &w, &e2);
+			if (r != want[i][j])
+				TAP_FAIL("token %zu need %s: %d, want %d", i,
+				    auth_role_str(needs[j]), r, want[i][j]);
+		}
+	}
+}
+
 int
 main(void)
 {
@@ -159,7 +185,6 @@ main(void)
 	enum auth_reads reads;
 	enum auth_mode mode;
 	size_t i, j, k;
-	int r;
 
 	TEST_START("127.0.0.0/8, ::1 and mapped 127/8 are loopback, nothing "
 	    "else");
@@ -295,18 +320,7 @@ main(void)
 	TEST_START("tokens exist, reads open: 401 and 403 by role");
 	ac.reads = AUTH_READS_AUTO;
 	ASSERT_INT_EQ(auth_new(&ac, &a, &e), 0);
-	for (i = 0; i < 4; i++) {
-		for (j = 0; j < 4; j++) {
-			struct err e2 = { 0 };
-
-			r = auth_check(a, needs[j], i == 0 ? NULL :
-			    bearer(hdr, sizeof(hdr), texts[i - 1]), &w, &e2);
-			if (r != want_open_reads[i][j])
-				TAP_FAIL("token %zu need %s: %d, want %d", i,
-				    auth_role_str(needs[j]), r,
-				    want_open_reads[i][j]);
-		}
-	}
+	check_roles(a, texts, needs, want_open_reads);
 	auth_free(a);
 	a = NULL;
 	TEST_DONE();
@@ -314,18 +328,7 @@ main(void)
 	TEST_START("tokens exist, reads closed: reads need a token too");
 	ac.reads = AUTH_READS_YES;
 	ASSERT_INT_EQ(auth_new(&ac, &a, &e), 0);
-	for (i = 0; i < 4; i++) {
-		for (j = 0; j < 4; j++) {
-			struct err e2 = { 0 };
-
-			r = auth_check(a, needs[j], i == 0 ? NULL :
-			    bearer(hdr, sizeof(hdr), texts[i - 1]), &w, &e2);
-			if (r != want_closed_reads[i][j])
-				TAP_FAIL("token %zu need %s: %d, want %d", i,
-				    auth_role_str(needs[j]), r,
-				    want_closed_reads[i][j]);
-		}
-	}
+	check_roles(a, texts, needs, want_closed_reads);
 	TEST_DONE();
 
 	TEST_START("who: the token's name, \"token N\", anonymous, invalid");
